@@ -1,0 +1,519 @@
+"""Validation of raw case-file dictionaries (see :mod:`rarefy.case`).
+
+:func:`build_case` checks a dictionary produced by ``tomllib`` section by
+section and returns the keyword arguments for :class:`rarefy.case.Case`;
+:func:`apply_override` applies one ``--set key=value`` override to it.
+The geometric checks (boundary tiling, walls, flux planes) follow the
+section readers.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import sys
+from typing import Any, NoReturn
+
+from rarefy.case import (
+    SIDES, Boundary, CaseError, Domain, FluxPlane, GasSpec, InitialState, Resolution,
+    RunControl, Surface, Wall,
+)
+from rarefy.units import UNITS, UnitError, parse_quantity
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover
+    import tomli as tomllib
+
+__all__ = ["build_case", "apply_override", "Checker"]
+
+TOP_KEYS = ("title", "gas", "domain", "boundaries", "walls", "flux_planes", "initial",
+            "resolution", "run")
+SECTION_KEYS = {
+    "gas": ("species", "model"),
+    "domain": ("x", "y", "depth", "characteristic_length"),
+    "initial": ("pressure", "temperature", "velocity"),
+    "resolution": ("cell_size", "time_step", "particles_per_cell", "particle_weight", "subcells"),
+    "run": ("settle_steps", "sample_steps", "batches", "seed"),
+}
+BOUNDARY_KEYS = {
+    "reservoir": ("kind", "from", "to", "pressure", "temperature", "velocity"),
+    "vacuum": ("kind", "from", "to"),
+    "periodic": ("kind",),
+    "symmetry": ("kind", "from", "to"),
+    "wall": ("kind", "from", "to", "surface", "temperature", "accommodation", "velocity"),
+}
+ALL_BOUNDARY_KEYS = ("kind", "from", "to", "pressure", "temperature", "velocity", "surface",
+                     "accommodation")
+ARRAY_KEYS = {
+    "walls": ("name", "points", "solid", "surface", "temperature", "accommodation", "velocity"),
+    "flux_planes": ("name", "points", "mirrored"),
+}
+MODELS = ("hs", "vhs", "vss")
+SURFACES = ("diffuse", "specular", "maxwell")
+
+
+def _join(prefix: str, name: str) -> str:
+    return f"{prefix}.{name}" if prefix else name
+
+
+def _units(kind: str) -> str:
+    return ", ".join(UNITS[kind])
+
+
+class Checker:
+    """Typed access to raw TOML values; every failure raises :class:`CaseError`."""
+
+    def __init__(self, path: str) -> None:
+        self.path = path
+
+    def fail(self, key: str, message: str) -> NoReturn:
+        raise CaseError(self.path, key, message)
+
+    def table(self, value: Any, key: str, allowed: tuple[str, ...]) -> dict:
+        """Return ``value`` as a table after rejecting keys not in ``allowed``."""
+        if not isinstance(value, dict):
+            self.fail(key, f"must be a table with keys: {', '.join(allowed)}")
+        for name in value:
+            if name not in allowed:
+                self.fail(_join(key, name), f"unknown key; allowed keys here: {', '.join(allowed)}")
+        return value
+
+    def require(self, tbl: dict, key: str, name: str, hint: str) -> Any:
+        if name not in tbl:
+            self.fail(_join(key, name), f"required key is missing; {hint}")
+        return tbl[name]
+
+    def quantity(self, value: Any, key: str, kind: str, minimum: float | None = None,
+                 strict: bool = True) -> float:
+        """Parse a quantity; ``minimum`` with ``strict`` means ``> minimum`` else ``>=``."""
+        try:
+            result = parse_quantity(value, kind)
+        except UnitError as exc:
+            self.fail(key, str(exc))
+        if minimum is not None and (result <= minimum if strict else result < minimum):
+            unit = next(iter(UNITS[kind]), "")
+            op = ">" if strict else ">="
+            self.fail(key, f"must be {op} {minimum:g} {unit}".rstrip() + f"; got {value!r}")
+        return result
+
+    def integer(self, value: Any, key: str, minimum: int) -> int:
+        if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
+            self.fail(key, f"must be an integer >= {minimum}; got {value!r}")
+        return value
+
+    def string(self, value: Any, key: str, what: str = "a string") -> str:
+        if not isinstance(value, str) or not value.strip():
+            self.fail(key, f"must be {what} (non-empty, in quotes); got {value!r}")
+        return value
+
+    def boolean(self, value: Any, key: str) -> bool:
+        if not isinstance(value, bool):
+            self.fail(key, f"must be true or false; got {value!r}")
+        return value
+
+    def choice(self, value: Any, key: str, choices: tuple[str, ...]) -> str:
+        if isinstance(value, str) and value.strip().lower() in choices:
+            return value.strip().lower()
+        self.fail(key, f"must be one of: {', '.join(choices)}; got {value!r}")
+
+    def vector3(self, value: Any, key: str) -> tuple[float, float, float]:
+        if not isinstance(value, list) or len(value) != 3:
+            self.fail(key, f'must be [vx, vy, vz], e.g. ["0 m/s", "0 m/s", "0 m/s"]; '
+                           f"allowed units: {_units('velocity')}; got {value!r}")
+        return tuple(self.quantity(v, f"{key}[{i}]", "velocity") for i, v in enumerate(value))
+
+    def point(self, value: Any, key: str) -> tuple[float, float]:
+        if not isinstance(value, list) or len(value) != 2:
+            self.fail(key, f'must be a point [x, y], e.g. ["0 mm", "1 mm"]; allowed units: '
+                           f"{_units('length')}; got {value!r}")
+        return (self.quantity(value[0], key, "length"), self.quantity(value[1], key, "length"))
+
+    def surface(self, tbl: dict, key: str) -> Surface:
+        """Read surface / temperature / accommodation / velocity of a wall."""
+        kind = self.choice(tbl.get("surface", "diffuse"), _join(key, "surface"), SURFACES)
+        temperature = None
+        if kind != "specular":
+            self.require(tbl, key, "temperature",
+                         f'surface = "{kind}" needs a temperature, e.g. "300 K" '
+                         f"(allowed units: {_units('temperature')})")
+        if "temperature" in tbl:
+            temperature = self.quantity(tbl["temperature"], _join(key, "temperature"),
+                                        "temperature", 0.0)
+        accommodation = {"diffuse": 1.0, "specular": 0.0}.get(kind)
+        if kind == "maxwell":
+            value = self.require(tbl, key, "accommodation",
+                                 'surface = "maxwell" needs accommodation, a number 0 < a <= 1')
+            accommodation = self.quantity(value, _join(key, "accommodation"), "dimensionless")
+            if not 0.0 < accommodation <= 1.0:
+                self.fail(_join(key, "accommodation"),
+                          f"must be a number with 0 < accommodation <= 1; got {value!r}")
+        elif "accommodation" in tbl:
+            self.fail(_join(key, "accommodation"),
+                      f'allowed only with surface = "maxwell" (here surface = "{kind}")')
+        velocity = self.quantity(tbl.get("velocity", 0.0), _join(key, "velocity"), "velocity")
+        return Surface(kind, temperature, accommodation, velocity)
+
+
+def _species(chk: Checker, gas: dict) -> GasSpec:
+    from rarefy.gas.species import SPECIES
+
+    name = chk.require(gas, "gas", "species", f"allowed: {', '.join(SPECIES)}")
+    canon = {k.lower(): k for k in SPECIES}
+    if not isinstance(name, str) or name.strip().lower() not in canon:
+        chk.fail("gas.species", f"unknown species {name!r}; allowed: {', '.join(SPECIES)}")
+    species = canon[name.strip().lower()]
+    model = chk.choice(gas.get("model", "vhs"), "gas.model", MODELS)
+    entry = SPECIES[species]
+    if model == "vss" and entry.alpha is None:
+        chk.fail("gas.model", f'"vss" needs VSS data, which {species} lacks; allowed for '
+                              f"{species}: hs, vhs")
+    return GasSpec(species, model)
+
+
+def _domain(chk: Checker, tbl: dict) -> Domain:
+    spans = []
+    for axis in ("x", "y"):
+        key = f"domain.{axis}"
+        value = chk.require(tbl, "domain", axis, f'give [min, max], e.g. ["0 mm", "10 mm"]')
+        if not isinstance(value, list) or len(value) != 2:
+            chk.fail(key, f'must be [min, max] with lengths, e.g. ["0 mm", "10 mm"]; '
+                          f"allowed units: {_units('length')}; got {value!r}")
+        lo, hi = (chk.quantity(v, key, "length") for v in value)
+        if not hi > lo:
+            chk.fail(key, f"max ({hi:.6g} m) must be greater than min ({lo:.6g} m)")
+        spans.append((lo, hi))
+    depth = chk.quantity(tbl.get("depth", 1.0), "domain.depth", "length", 0.0)
+    lc = tbl.get("characteristic_length")
+    if lc is not None:
+        lc = chk.quantity(lc, "domain.characteristic_length", "length", 0.0)
+    return Domain(spans[0][0], spans[0][1], spans[1][0], spans[1][1], depth, lc)
+
+
+def _initial(chk: Checker, tbl: dict, default_t: float) -> InitialState:
+    p = chk.quantity(tbl.get("pressure", 0.0), "initial.pressure", "pressure", 0.0, strict=False)
+    if p > 0.0:
+        chk.require(tbl, "initial", "temperature",
+                    f'needed when pressure > 0, e.g. "300 K" (units: {_units("temperature")})')
+    t = default_t
+    if "temperature" in tbl:
+        t = chk.quantity(tbl["temperature"], "initial.temperature", "temperature", 0.0)
+    v = chk.vector3(tbl.get("velocity", [0.0, 0.0, 0.0]), "initial.velocity")
+    return InitialState(p, t, v)
+
+
+def _resolution(chk: Checker, tbl: dict) -> Resolution:
+    def opt(name: str, kind: str) -> float | None:
+        if name not in tbl:
+            return None
+        return chk.quantity(tbl[name], f"resolution.{name}", kind, 0.0)
+
+    subcells = tbl.get("subcells")
+    if subcells is not None:
+        subcells = chk.integer(subcells, "resolution.subcells", 1)
+    return Resolution(opt("cell_size", "length"), opt("time_step", "time"),
+                      opt("particles_per_cell", "dimensionless"),
+                      opt("particle_weight", "dimensionless"), subcells)
+
+
+def _run(chk: Checker, tbl: dict) -> RunControl:
+    minima = {"settle_steps": 0, "sample_steps": 1, "batches": 2, "seed": 0}
+    vals = {k: (chk.integer(tbl[k], f"run.{k}", m) if k in tbl else None)
+            for k, m in minima.items()}
+    if vals["sample_steps"] is not None and vals["batches"] is not None:
+        if vals["sample_steps"] < vals["batches"]:
+            chk.fail("run.sample_steps", f"must be >= run.batches ({vals['batches']}); "
+                                         f"got {vals['sample_steps']}")
+    return RunControl(**vals)
+
+
+# ----------------------------------------------------------------------------- geometry
+
+def _tol(domain: Domain) -> float:
+    return 1e-9 * max(domain.width, domain.height)
+
+
+def _array(chk: Checker, value: Any, key: str) -> list:
+    if not isinstance(value, list) or not all(isinstance(v, dict) for v in value):
+        chk.fail(key, f"must be an array of tables, each written [[{key}]]")
+    return value
+
+
+def _piece(chk: Checker, tbl: dict, key: str, side: str, span: tuple, single: bool) -> Boundary:
+    kinds = tuple(BOUNDARY_KEYS)
+    kind = chk.choice(chk.require(tbl, key, "kind", f"allowed: {', '.join(kinds)}"),
+                      f"{key}.kind", kinds)
+    allowed = BOUNDARY_KEYS[kind]
+    for name in tbl:
+        if name not in allowed:
+            chk.fail(f"{key}.{name}", f'not allowed with kind = "{kind}"; allowed keys for '
+                                      f'"{kind}": {", ".join(allowed)}')
+    if kind == "periodic" and not single:
+        chk.fail(f"{key}.kind", f"periodic must cover the whole side; write boundaries.{side} "
+                                "as a single table")
+    ends = []
+    for name, default in (("from", span[0]), ("to", span[1])):
+        if not single:
+            chk.require(tbl, key, name, "a side split into pieces needs from and to on every "
+                        f"piece (lengths along the side, {span[0]:.6g} m to {span[1]:.6g} m)")
+        ends.append(chk.quantity(tbl.get(name, default), f"{key}.{name}", "length"))
+    if not ends[1] > ends[0]:
+        chk.fail(f"{key}.to", f"must be greater than from ({ends[0]:.6g} m); got {tbl.get('to')!r}")
+    p = t = surface = None
+    v = (0.0, 0.0, 0.0)
+    if kind == "reservoir":
+        p = chk.quantity(chk.require(tbl, key, "pressure", f"a reservoir needs a pressure > 0, "
+                                     f"e.g. \"1 Pa\" (units: {_units('pressure')})"),
+                         f"{key}.pressure", "pressure", 0.0)
+        t = chk.quantity(chk.require(tbl, key, "temperature", f"a reservoir needs a temperature"
+                                     f" > 0, e.g. \"300 K\" (units: {_units('temperature')})"),
+                         f"{key}.temperature", "temperature", 0.0)
+        v = chk.vector3(tbl.get("velocity", [0.0, 0.0, 0.0]), f"{key}.velocity")
+    elif kind == "wall":
+        surface = chk.surface(tbl, key)
+        t = surface.temperature_k
+    return Boundary(side, ends[0], ends[1], kind, p, t, v, surface)
+
+
+def _boundaries(chk: Checker, value: Any, domain: Domain) -> tuple[Boundary, ...]:
+    table = chk.table(value, "boundaries", SIDES)
+    result: list[Boundary] = []
+    for side in SIDES:
+        key = f"boundaries.{side}"
+        if side not in table:
+            chk.fail(key, "missing; all four sides must be defined: " + ", ".join(SIDES))
+        raw = table[side]
+        if isinstance(raw, dict):
+            items = [(key, raw)]
+        elif isinstance(raw, list) and raw and all(isinstance(v, dict) for v in raw):
+            items = [(f"{key}[{i}]", v) for i, v in enumerate(raw)]
+        else:
+            chk.fail(key, f"must be a table [{key}] (whole side) or an array of tables "
+                          f"[[{key}]] (pieces)")
+        span = domain.side_range(side)
+        pieces = sorted(((k, _piece(chk, v, k, side, span, len(items) == 1)) for k, v in items),
+                        key=lambda item: item[1].start)
+        tol, pos = 1e-9 * (span[1] - span[0]), span[0]
+        for i, (k, b) in enumerate(pieces):
+            if abs(b.start - pos) > tol:
+                what = "a gap" if b.start > pos else "an overlap"
+                chk.fail(f"{k}.from", f"pieces must tile the side from {span[0]:.6g} m to "
+                         f"{span[1]:.6g} m without gaps or overlaps; this piece starts at "
+                         f"{b.start:.6g} m, leaving {what} after {pos:.6g} m")
+            end = span[1] if i == len(pieces) - 1 else b.end
+            if i == len(pieces) - 1 and abs(b.end - span[1]) > tol:
+                chk.fail(f"{k}.to", f"pieces must tile the side from {span[0]:.6g} m to "
+                         f"{span[1]:.6g} m; the last piece ends at {b.end:.6g} m")
+            result.append(Boundary(side, pos, end, b.kind, b.pressure_pa, b.temperature_k,
+                                   b.velocity_m_s, b.surface))
+            pos = end
+    kinds = {b.side: b.kind for b in result}
+    for a, b in (("xmin", "xmax"), ("ymin", "ymax")):
+        if (kinds[a] == "periodic") != (kinds[b] == "periodic"):
+            have, other = (a, b) if kinds[a] == "periodic" else (b, a)
+            chk.fail(f"boundaries.{other}", f"boundaries.{have} is periodic, so boundaries."
+                     f"{other} must be periodic too (whole side); periodic pairs: xmin with "
+                     "xmax, ymin with ymax")
+    return tuple(result)
+
+
+def _points(chk: Checker, value: Any, key: str, domain: Domain, count: str, least: int,
+            most: int | None = None) -> list[tuple[float, float]]:
+    if not isinstance(value, list) or len(value) < least or (most and len(value) > most):
+        chk.fail(key, f'must be a list of {count} points [x, y], e.g. [["0 mm", "0 mm"], '
+                      f'["0 mm", "1 mm"]]; got {value!r}')
+    tol, pts = _tol(domain), []
+    for i, item in enumerate(value):
+        x, y = chk.point(item, key)
+        if not (domain.xmin - tol <= x <= domain.xmax + tol
+                and domain.ymin - tol <= y <= domain.ymax + tol):
+            chk.fail(key, f"point {i} ({x:.6g} m, {y:.6g} m) lies outside the domain x in "
+                          f"[{domain.xmin:.6g}, {domain.xmax:.6g}] m, y in [{domain.ymin:.6g}, "
+                          f"{domain.ymax:.6g}] m (points on its edge are allowed)")
+        pts.append((min(max(x, domain.xmin), domain.xmax), min(max(y, domain.ymin), domain.ymax)))
+    return pts
+
+
+def _unique_name(chk: Checker, tbl: dict, key: str, seen: dict[str, str]) -> str:
+    name = chk.string(chk.require(tbl, key, "name", "give a unique name, e.g. \"plate\""),
+                      f"{key}.name", "a name string")
+    if name in seen:
+        chk.fail(f"{key}.name", f"name {name!r} is already used by {seen[name]}; names must be "
+                                "unique")
+    seen[name] = key
+    return name
+
+
+def _walls(chk: Checker, value: Any, domain: Domain) -> tuple[Wall, ...]:
+    walls, seen, tol = [], {}, _tol(domain)
+    for i, tbl in enumerate(_array(chk, value, "walls")):
+        key = f"walls[{i}]"
+        chk.table(tbl, key, ARRAY_KEYS["walls"])
+        name = _unique_name(chk, tbl, key, seen)
+        raw_points = chk.require(tbl, key, "points", "give a list of at least 2 points [x, y]")
+        solid = chk.boolean(tbl.get("solid", False), f"{key}.solid")
+        pts = _points(chk, raw_points, f"{key}.points", domain,
+                      "at least 3" if solid else "at least 2", 3 if solid else 2)
+        n = len(pts) if solid else len(pts) - 1
+        for j in range(n):
+            (x0, y0), (x1, y1) = pts[j], pts[(j + 1) % len(pts)]
+            if math.hypot(x1 - x0, y1 - y0) <= tol:
+                chk.fail(f"{key}.points", f"points {j} and {(j + 1) % len(pts)} coincide "
+                         "(zero-length segment)" + ("; a solid polygon closes itself, do not "
+                                                    "repeat the first point" if solid else ""))
+        if solid:
+            area = 0.5 * sum(pts[j - 1][0] * pts[j][1] - pts[j][0] * pts[j - 1][1]
+                             for j in range(len(pts)))
+            if abs(area) <= 1e-12 * domain.width * domain.height:
+                chk.fail(f"{key}.points", "the solid polygon has zero area; give at least 3 "
+                                          "points that are not on one line")
+        walls.append(Wall(name, tuple(pts), solid, chk.surface(tbl, key)))
+    return tuple(walls)
+
+
+def _on_symmetry(pt: tuple, boundaries: tuple, domain: Domain, tol: float) -> bool:
+    x, y = pt
+    for b in boundaries:
+        if b.kind != "symmetry":
+            continue
+        across, along = (x, y) if b.side in ("xmin", "xmax") else (y, x)
+        if abs(across - getattr(domain, b.side)) <= tol and b.start - tol <= along <= b.end + tol:
+            return True
+    return False
+
+
+def _flux_planes(chk: Checker, value: Any, domain: Domain,
+                 boundaries: tuple) -> tuple[FluxPlane, ...]:
+    planes, seen, tol = [], {}, _tol(domain)
+    for i, tbl in enumerate(_array(chk, value, "flux_planes")):
+        key = f"flux_planes[{i}]"
+        chk.table(tbl, key, ARRAY_KEYS["flux_planes"])
+        name = _unique_name(chk, tbl, key, seen)
+        raw_points = chk.require(tbl, key, "points", "give exactly 2 points [x, y]")
+        a, b = _points(chk, raw_points, f"{key}.points", domain, "exactly 2", 2, 2)
+        if math.hypot(b[0] - a[0], b[1] - a[1]) <= tol:
+            chk.fail(f"{key}.points", "the 2 points coincide; they must be distinct")
+        mirrored = chk.boolean(tbl.get("mirrored", False), f"{key}.mirrored")
+        if mirrored and not any(_on_symmetry(p, boundaries, domain, tol) for p in (a, b)):
+            chk.fail(f"{key}.mirrored", "true is allowed only when one end of the plane lies "
+                     'on a boundary piece with kind = "symmetry"; allowed here: false')
+        planes.append(FluxPlane(name, a, b, mirrored))
+    return tuple(planes)
+
+
+def build_case(raw: dict, path: str) -> dict[str, Any]:
+    """Validate a raw case dictionary.
+
+    Parameters
+    ----------
+    raw : dict
+        The parsed TOML document (overrides already applied).
+    path : str
+        File name used in error messages.
+
+    Returns
+    -------
+    dict
+        Keyword arguments for :class:`rarefy.case.Case` (without the source
+        fields).
+
+    Raises
+    ------
+    CaseError
+        For the first problem found.
+    """
+    chk = Checker(path)
+    chk.table(raw, "", TOP_KEYS)
+    title = raw.get("title", "")
+    if not isinstance(title, str):
+        chk.fail("title", f"must be a string; got {title!r}")
+    for name in ("gas", "domain", "boundaries"):
+        chk.require(raw, "", name, f"the case needs a [{name}] section")
+    gas = _species(chk, chk.table(raw["gas"], "gas", SECTION_KEYS["gas"]))
+    domain = _domain(chk, chk.table(raw["domain"], "domain", SECTION_KEYS["domain"]))
+    boundaries = _boundaries(chk, raw["boundaries"], domain)
+    walls = _walls(chk, raw.get("walls", []), domain)
+    planes = _flux_planes(chk, raw.get("flux_planes", []), domain, boundaries)
+    reservoirs = [b for b in boundaries if b.kind == "reservoir"]
+    default_t = reservoirs[0].temperature_k if reservoirs else 300.0
+    initial = _initial(chk, chk.table(raw.get("initial", {}), "initial",
+                                      SECTION_KEYS["initial"]), default_t)
+    resolution = _resolution(chk, chk.table(raw.get("resolution", {}), "resolution",
+                                            SECTION_KEYS["resolution"]))
+    run = _run(chk, chk.table(raw.get("run", {}), "run", SECTION_KEYS["run"]))
+    if not reservoirs and initial.pressure_pa <= 0.0:
+        chk.fail("boundaries", "no source of gas: give at least one boundary with "
+                               'kind = "reservoir", or [initial] pressure > 0')
+    return dict(title=title, gas=gas, domain=domain, boundaries=boundaries, walls=walls,
+                flux_planes=planes, initial=initial, resolution=resolution, run=run)
+
+
+# ----------------------------------------------------------------------------- overrides
+
+_PART_RE = re.compile(r"([A-Za-z_][A-Za-z0-9_]*)(?:\[(\d+)\])?")
+_OVERRIDE_HELP = (
+    "allowed: title; " + "; ".join(f"{s}.{{{','.join(k)}}}" for s, k in SECTION_KEYS.items())
+    + f"; boundaries.SIDE.KEY or boundaries.SIDE[i].KEY with SIDE in {{{','.join(SIDES)}}} and "
+    f"KEY in {{{','.join(ALL_BOUNDARY_KEYS)}}}; "
+    + "; ".join(f"{a}[i].{{{','.join(k)}}}" for a, k in ARRAY_KEYS.items())
+)
+
+
+def _override_value(value: object) -> object:
+    if not isinstance(value, str) or "\n" in value:
+        return value
+    try:
+        doc = tomllib.loads(f"v = {value}")
+    except tomllib.TOMLDecodeError:
+        return value
+    return doc["v"] if list(doc) == ["v"] else value
+
+
+def apply_override(raw: dict, key: str, value: object, path: str) -> None:
+    """Set dotted ``key`` (e.g. ``"run.seed"``, ``"walls[0].temperature"``) in ``raw``.
+
+    Raises
+    ------
+    CaseError
+        If the key is not part of the case format or names a missing entry.
+    """
+    chk = Checker(path)
+    parts = [_PART_RE.fullmatch(p) for p in key.split(".")]
+    if not key or any(m is None for m in parts):
+        chk.fail(key, f"malformed override key; {_OVERRIDE_HELP}")
+    names = [m.group(1) for m in parts]
+    index = [None if m.group(2) is None else int(m.group(2)) for m in parts]
+    value = _override_value(value)
+    top = names[0]
+    if names == ["title"] and index == [None]:
+        raw["title"] = value
+        return
+    if top in SECTION_KEYS and len(names) == 2 and index == [None, None] \
+            and names[1] in SECTION_KEYS[top]:
+        target = raw.setdefault(top, {})
+    elif top in ARRAY_KEYS and len(names) == 2 and index[0] is not None and index[1] is None \
+            and names[1] in ARRAY_KEYS[top]:
+        entries = raw.get(top, [])
+        if not isinstance(entries, list) or index[0] >= len(entries):
+            count = len(entries) if isinstance(entries, list) else 0
+            chk.fail(key, f"no such entry: the case has {count} {top} (counted from 0)")
+        target = entries[index[0]]
+    elif top == "boundaries" and len(names) == 3 and index[0] is None and index[2] is None \
+            and names[1] in SIDES and names[2] in ALL_BOUNDARY_KEYS:
+        table = raw.setdefault("boundaries", {})
+        if not isinstance(table, dict):
+            chk.fail("boundaries", "must be a table")
+        side = table.setdefault(names[1], {})
+        pieces = side if isinstance(side, list) else [side]
+        i = index[1] if index[1] is not None else 0
+        if index[1] is None and len(pieces) > 1:
+            chk.fail(key, f"boundaries.{names[1]} has {len(pieces)} pieces; name one, e.g. "
+                          f"boundaries.{names[1]}[0].{names[2]}")
+        if i >= len(pieces):
+            chk.fail(key, f"no such piece: boundaries.{names[1]} has {len(pieces)} (from 0)")
+        target = pieces[i]
+    else:
+        chk.fail(key, f"unknown override key; {_OVERRIDE_HELP}")
+    if not isinstance(target, dict):
+        chk.fail(key.rsplit(".", 1)[0], "must be a table")
+    target[names[-1]] = value

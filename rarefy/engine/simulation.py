@@ -1,0 +1,197 @@
+"""The DSMC step loop: inject -> move (+walls) -> index -> collide -> sample.
+
+``Simulation`` owns the particles, the random stream and the clock; it turns
+the case, plan and geometry into arrays once and then only calls kernels.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, field
+from typing import Callable
+
+import numpy as np
+
+from rarefy.case import SIDES, Case
+from rarefy.constants import K_B
+from rarefy.engine.particles import VX, VY, VZ, X, Y, ParticleStore
+from rarefy.gas import kinetic
+from rarefy.gas.species import get_species
+from rarefy.geometry.cutcell import mask_inside_solids
+from rarefy.geometry.planar import Geometry, build_geometry
+from rarefy.kernels.collide import collide_cells
+from rarefy.kernels.index import counting_sort
+from rarefy.kernels.inject import N_INFLOW_COLS, inject, seed_generator
+from rarefy.kernels.move import compute_keys, move_all
+from rarefy.kernels.sample import sample_cells
+from rarefy.plan import Plan
+from rarefy.post.fields import fields_from_moments
+from rarefy.sampling.accumulators import Accumulators
+
+__all__ = ["Simulation", "PHASES"]
+
+PHASES = ("inject", "move", "index", "collide", "sample")
+
+
+@dataclass
+class Clock:
+    step: int = 0
+    time_s: float = 0.0
+    phase_seconds: dict = field(default_factory=lambda: dict.fromkeys(PHASES, 0.0))
+    particle_steps: int = 0
+
+
+class Simulation:
+    """One planar DSMC run of ``case`` with ``plan``, seeded by ``seed``."""
+
+    def __init__(self, case: Case, plan: Plan, seed: int, geometry: Geometry | None = None):
+        self.case = case
+        self.plan = plan
+        self.seed = int(seed)
+        self.geom = geometry or build_geometry(case, plan)
+        g = self.geom
+        sp = get_species(case.gas.species)
+        self.model = sp.model(case.gas.model)
+        self.mass = sp.mass_kg
+        self.dt = plan.time_step_s
+        self.fnum = plan.particle_weight
+        self.nsub = plan.subcells
+        self.nkeys = g.ncell * self.nsub ** 2
+        self.key_start = np.zeros(self.nkeys + 1, dtype=np.int64)
+        self.a_coef = kinetic.sigma_cr_coefficient(self.model)
+        self.exponent = 2.0 - 2.0 * self.model.omega
+        vmp_ref = kinetic.most_probable_speed(self.mass, plan.reference_temperature_k)
+        self.sigcr_max = np.full(g.ncell, self.a_coef * (3.0 * vmp_ref) ** self.exponent)
+        self.remainder = np.zeros(g.ncell)
+        self.coll_stats = np.zeros(3)
+        self.nudge = 1e-12 * max(g.box[1] - g.box[0], g.box[3] - g.box[2])
+        self.inflow = self._inflow_rows()
+        rate = float(self.inflow[:, -1].sum()) if len(self.inflow) else 0.0
+        self.inflow_max = int(rate + 10.0 * math.sqrt(rate) + 16)
+        self.tfrac = np.zeros(self.inflow_max)
+        self.store = ParticleStore(int(1.5 * plan.expected_particles) + self.inflow_max)
+        self.clock = Clock()
+        steps_per_batch = max(1, plan.sample_steps // plan.batches)
+        self.acc = Accumulators(g.ncell, len(g.facet_owner), len(g.plane_names), plan.batches,
+                                steps_per_batch)
+        self._no_surf = np.zeros((0, 7))
+        self._no_flux = np.zeros((len(g.plane_names), 6))
+        self._dummy_surf = np.zeros((len(g.facet_owner), 7))
+        seed_generator(self.seed % (2 ** 32))
+        self._fill_initial()
+
+    # ------------------------------------------------------------------ set-up
+    def _inflow_rows(self) -> np.ndarray:
+        """One row per reservoir piece (layout in ``rarefy.kernels.inject``)."""
+        d = self.case.domain
+        rows = []
+        pos = {"xmin": d.xmin, "xmax": d.xmax, "ymin": d.ymin, "ymax": d.ymax}
+        inward = {"xmin": (1, 0), "xmax": (-1, 0), "ymin": (0, 1), "ymax": (0, -1)}
+        for b in self.case.boundaries:
+            if b.kind != "reservoir":
+                continue
+            n = b.pressure_pa / (K_B * b.temperature_k)
+            vmp = kinetic.most_probable_speed(self.mass, b.temperature_k)
+            ex, ey = inward[b.side]
+            un = b.velocity_m_s[0] * ex + b.velocity_m_s[1] * ey
+            flux = kinetic.one_way_number_flux(n, b.temperature_k, self.mass, un)
+            per_step = flux * (b.end - b.start) * d.depth_m * self.dt / self.fnum
+            rows.append((SIDES.index(b.side), b.start, b.end, pos[b.side], vmp,
+                         *b.velocity_m_s, per_step))
+        return np.array(rows, dtype=np.float64).reshape(-1, N_INFLOW_COLS)
+
+    def add_particles(self, x, y, vx, vy, vz) -> None:
+        """Add particles (arrays, SI) and re-index; those inside solids are dropped."""
+        g = self.geom
+        keep = np.ones(len(x), dtype=bool)
+        if len(g.poly_start) > 1:
+            mask_inside_solids(np.ascontiguousarray(x), np.ascontiguousarray(y), g.poly_x,
+                               g.poly_y, g.poly_start, keep)
+        self.store.add(x[keep], y[keep], vx[keep], vy[keep], vz[keep])
+        self._index()
+
+    def _fill_initial(self) -> None:
+        init = self.case.initial
+        if init.pressure_pa <= 0.0:
+            return
+        g = self.geom
+        rng = np.random.default_rng(self.seed)
+        n = init.pressure_pa / (K_B * init.temperature_k)
+        area = (g.box[1] - g.box[0]) * (g.box[3] - g.box[2])
+        count = rng.poisson(n * area * g.depth / self.fnum)
+        sig = math.sqrt(K_B * init.temperature_k / self.mass)
+        u = init.velocity_m_s
+        self.add_particles(rng.uniform(g.box[0], g.box[1], count),
+                           rng.uniform(g.box[2], g.box[3], count),
+                           u[0] + sig * rng.standard_normal(count),
+                           u[1] + sig * rng.standard_normal(count),
+                           u[2] + sig * rng.standard_normal(count))
+
+    def _index(self) -> None:
+        st, g = self.store, self.geom
+        compute_keys(st.n, st.state[X], st.state[Y], st.key, g.box, g.nx, g.ny, g.dx, g.dy,
+                     self.nsub)
+        self._sort()
+
+    def _sort(self) -> None:
+        st = self.store
+        st.n = counting_sort(st.n, st.key, self.nkeys, self.key_start, st.state, st.spare,
+                             st.key_spare)
+        st.swap()
+
+    # ------------------------------------------------------------------ the loop
+    def step(self, sampling: bool) -> None:
+        """Advance one time step; tally into the current batch when ``sampling``."""
+        st, g, acc, ph = self.store, self.geom, self.acc, self.clock.phase_seconds
+        t0 = time.perf_counter()
+        n0 = st.n
+        st.reserve(n0 + self.inflow_max)
+        s = st.state
+        n1 = inject(self.inflow, n0, s[X], s[Y], s[VX], s[VY], s[VZ], self.tfrac) \
+            if len(self.inflow) else n0
+        st.n = n1
+        t1 = time.perf_counter()
+        stally = acc.surf[acc.batch] if sampling else self._dummy_surf
+        ftally = acc.flux[acc.batch] if sampling else self._no_flux
+        move_all(n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key,
+                 g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, g.planes, stally, ftally,
+                 sampling, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free)
+        t2 = time.perf_counter()
+        self._sort()
+        s = st.state
+        t3 = time.perf_counter()
+        self.coll_stats[:] = 0.0
+        collide_cells(g.ncell, self.nsub, self.key_start, s[X], s[Y], s[VX], s[VY], s[VZ],
+                      g.volume, self.sigcr_max, self.remainder, self.fnum, self.dt,
+                      self.a_coef, self.exponent, self.model.alpha, self.coll_stats)
+        t4 = time.perf_counter()
+        if sampling:
+            sample_cells(g.ncell, self.nsub, self.key_start, s[VX], s[VY], s[VZ],
+                         acc.cell_batch)
+            acc.collisions[acc.batch] += self.coll_stats
+            acc.end_step(st.n, self._batch_fields)
+        t5 = time.perf_counter()
+        for name, a, b in zip(PHASES, (t0, t1, t2, t3, t4), (t1, t2, t3, t4, t5)):
+            ph[name] += b - a
+        self.clock.step += 1
+        self.clock.time_s += self.dt
+        self.clock.particle_steps += st.n
+
+    def _batch_fields(self, sums: np.ndarray, nsteps: int) -> dict:
+        return fields_from_moments(sums, nsteps, self.geom.volume, self.mass, self.fnum)
+
+    def run(self, progress: Callable[[str, int, int, "Simulation"], None] | None = None,
+            every: int = 100) -> Accumulators:
+        """Settle for ``plan.settle_steps``, then sample until every batch is full."""
+        total_settle = self.plan.settle_steps
+        while self.clock.step < total_settle:
+            self.step(False)
+            if progress and self.clock.step % every == 0:
+                progress("settling", self.clock.step, total_settle, self)
+        sample_total = self.acc.batches * self.acc.steps_per_batch
+        while not self.acc.done:
+            self.step(True)
+            if progress and self.acc.steps_sampled % every == 0:
+                progress("sampling", self.acc.steps_sampled, sample_total, self)
+        return self.acc

@@ -1,0 +1,32 @@
+"""Numba settings for every kernel, in one place.
+
+``JIT`` is the keyword set for ``numba.njit``: compiled code is cached on disk
+(``cache=True``) so a second start pays no compile time; ``fastmath`` stays off
+because the collision kernel must conserve momentum and energy to round-off.
+"""
+
+JIT = dict(cache=True, nogil=True, fastmath=False, error_model="numpy")
+
+# Integer codes shared by the engine and the kernels.
+SIDE_XMIN, SIDE_XMAX, SIDE_YMIN, SIDE_YMAX = 0, 1, 2, 3
+BND_ABSORB = 0     # vacuum or reservoir: particles leaving the domain are removed
+BND_REFLECT = 1    # wall or symmetry plane (surface parameters in the piece row)
+BND_PERIODIC = 2
+
+# Columns of the surface-parameter rows (walls and reflecting boundary pieces).
+S_SIGMA = 0        # sqrt(k T_w / m), m/s
+S_ACC = 1          # accommodation: probability of diffuse re-emission
+S_VEL = 2          # tangential wall speed, m/s
+
+# Columns of the surface tallies (per facet).
+T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, T_C2_IN, T_C2_OUT = range(7)
+N_SURF_TALLY = 7
+
+# Columns of the flux-plane tallies (per plane): positive / negative crossings.
+F_N_POS, F_N_NEG, F_C_POS, F_C_NEG, F_C2_POS, F_C2_NEG = range(6)
+N_FLUX_TALLY = 6
+
+# Columns of the cell moment sums.
+(M_N, M_VX, M_VY, M_VZ, M_VXX, M_VYY, M_VZZ, M_VXY, M_VXZ, M_VYZ,
+ M_C2VX, M_C2VY, M_C2) = range(13)
+N_MOMENTS = 13

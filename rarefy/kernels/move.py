@@ -1,0 +1,323 @@
+"""Free-flight move with wall, boundary and flux-plane events (planar 2-D).
+
+Particles fly straight for the time step; the first event on the way (a wall
+segment, a side of the domain) is handled and the flight resumes with the time
+left. Gas-surface interaction follows the Maxwell model: with probability
+equal to the accommodation coefficient the molecule is re-emitted diffusely at
+the wall temperature (normal speed from the flux-weighted half-range
+Maxwellian, sqrt(-2 ln R) sqrt(kT_w/m); tangential components Gaussian with
+variance kT_w/m; Bird 1994 sec. 12.3), else specularly.
+
+Geometry arrives as plain arrays (see ``rarefy.geometry.planar``):
+
+``segs[k] = x0, y0, x1, y1, sigma, acc, vel``  wall segments,
+``seg_tally[k] = first facet, number of facets``,
+``box = xmin, xmax, ymin, ymax``,
+``pieces[j] = start, end, sigma, acc, vel``  domain-side pieces,
+``piece_int[j] = side, kind, first facet, number of facets``,
+``planes[p] = x0, y0, x1, y1``  flux planes.
+"""
+
+import numpy as np
+from numba import njit
+
+from rarefy.kernels.config import (
+    BND_ABSORB, BND_PERIODIC, F_C2_NEG, F_C2_POS, F_C_NEG, F_C_POS, F_N_NEG, F_N_POS, JIT,
+    S_ACC, S_SIGMA, S_VEL, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN, T_C2_IN, T_C2_OUT,
+    T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT,
+)
+
+MAX_EVENTS = 1000  # events in one step before a particle is declared lost
+
+
+@njit(**JIT)
+def reflect(vx, vy, vz, nx, ny, sigma, acc, vel, tx, ty):
+    """Post-interaction velocity at a surface with unit normal (nx, ny) into the gas.
+
+    (tx, ty) is the unit tangent along which the wall moves at speed ``vel``.
+    Returns the new (vx, vy, vz). Diffuse with probability ``acc`` (Maxwell model).
+    """
+    if np.random.random() < acc:
+        vn = sigma * np.sqrt(-2.0 * np.log(1.0 - np.random.random()))
+        vt = sigma * np.random.standard_normal() + vel
+        vz_new = sigma * np.random.standard_normal()
+        return vn * nx + vt * tx, vn * ny + vt * ty, vz_new
+    vdotn = vx * nx + vy * ny
+    return vx - 2.0 * vdotn * nx, vy - 2.0 * vdotn * ny, vz
+
+
+@njit(**JIT)
+def _tally_surface(tally, facet, vx0, vy0, vz0, vx1, vy1, vz1, nx, ny, tx, ty, w):
+    tally[facet, T_HITS] += w
+    tally[facet, T_VN_IN] += -(vx0 * nx + vy0 * ny) * w
+    tally[facet, T_VN_OUT] += (vx1 * nx + vy1 * ny) * w
+    tally[facet, T_VT_IN] += (vx0 * tx + vy0 * ty) * w
+    tally[facet, T_VT_OUT] += (vx1 * tx + vy1 * ty) * w
+    tally[facet, T_C2_IN] += (vx0 * vx0 + vy0 * vy0 + vz0 * vz0) * w
+    tally[facet, T_C2_OUT] += (vx1 * vx1 + vy1 * vy1 + vz1 * vz1) * w
+
+
+@njit(**JIT)
+def _cross_planes(x, y, vx, vy, vz, t, planes, ftally, w):
+    """Tally crossings of the flux planes by the straight path p + v s, 0 < s <= t."""
+    for p in range(planes.shape[0]):
+        ex = planes[p, 2] - planes[p, 0]
+        ey = planes[p, 3] - planes[p, 1]
+        det = -vx * ey + ex * vy
+        if det == 0.0:
+            continue
+        dx = planes[p, 0] - x
+        dy = planes[p, 1] - y
+        s_t = (-dx * ey + ex * dy) / det
+        if s_t <= 0.0 or s_t > t:
+            continue
+        s_p = (vx * dy - vy * dx) / det
+        if s_p < 0.0 or s_p >= 1.0:
+            continue
+        c2 = vx * vx + vy * vy + vz * vz
+        # right-hand normal (ey, -ex) is the positive direction
+        if vx * ey - vy * ex > 0.0:
+            ftally[p, F_N_POS] += w
+            ftally[p, F_C_POS] += np.sqrt(c2) * w
+            ftally[p, F_C2_POS] += c2 * w
+        else:
+            ftally[p, F_N_NEG] += w
+            ftally[p, F_C_NEG] += np.sqrt(c2) * w
+            ftally[p, F_C2_NEG] += c2 * w
+
+
+@njit(**JIT)
+def _facet_of(first, nbins, frac):
+    b = int(frac * nbins)
+    if b < 0:
+        b = 0
+    elif b >= nbins:
+        b = nbins - 1
+    return first + b
+
+
+@njit(inline="always", **JIT)
+def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, planes,
+             stally, ftally, sampling, nudge):
+    """Move particle ``i`` for time ``t`` (s). Returns False if it left the domain."""
+    last = -1
+    for _event in range(MAX_EVENTS):
+        px = x[i]
+        py = y[i]
+        ux = vx[i]
+        uy = vy[i]
+        # --- first wall segment on the path
+        t_hit = t
+        k_hit = -1
+        s_hit = 0.0
+        for k in range(segs.shape[0]):
+            if k == last:
+                continue
+            ex = segs[k, 2] - segs[k, 0]
+            ey = segs[k, 3] - segs[k, 1]
+            det = -ux * ey + ex * uy
+            if det == 0.0:
+                continue
+            dx = segs[k, 0] - px
+            dy = segs[k, 1] - py
+            s_t = (-dx * ey + ex * dy) / det
+            if s_t <= 0.0 or s_t > t_hit:
+                continue
+            s_s = (ux * dy - uy * dx) / det
+            if s_s < -1e-12 or s_s > 1.0 + 1e-12:
+                continue
+            t_hit = s_t
+            k_hit = k
+            s_hit = s_s
+        # --- first domain side on the path
+        t_box = np.inf
+        side = -1
+        if ux > 0.0:
+            tb = (box[1] - px) / ux
+            if tb < t_box:
+                t_box = tb
+                side = SIDE_XMAX
+        elif ux < 0.0:
+            tb = (box[0] - px) / ux
+            if tb < t_box:
+                t_box = tb
+                side = SIDE_XMIN
+        if uy > 0.0:
+            tb = (box[3] - py) / uy
+            if tb < t_box:
+                t_box = tb
+                side = SIDE_YMAX
+        elif uy < 0.0:
+            tb = (box[2] - py) / uy
+            if tb < t_box:
+                t_box = tb
+                side = SIDE_YMIN
+        if t_box < 0.0:
+            t_box = 0.0
+        if k_hit < 0 and t_box >= t:
+            if sampling and planes.shape[0] > 0:
+                _cross_planes(px, py, ux, uy, vz[i], t, planes, ftally, 1.0)
+            x[i] = px + ux * t
+            y[i] = py + uy * t
+            return True
+        if k_hit >= 0 and t_hit <= t_box:
+            # ---- wall segment event
+            if sampling and planes.shape[0] > 0:
+                _cross_planes(px, py, ux, uy, vz[i], t_hit, planes, ftally, 1.0)
+            ex = segs[k_hit, 2] - segs[k_hit, 0]
+            ey = segs[k_hit, 3] - segs[k_hit, 1]
+            el = np.sqrt(ex * ex + ey * ey)
+            tx = ex / el
+            ty = ey / el
+            nx = -ty
+            ny = tx
+            if ux * nx + uy * ny > 0.0:  # normal must face the side we came from
+                nx = -nx
+                ny = -ny
+            hx = px + ux * t_hit
+            hy = py + uy * t_hit
+            w0x, w0y, w0z = ux, uy, vz[i]
+            nvx, nvy, nvz = reflect(w0x, w0y, w0z, nx, ny, segs[k_hit, S_SIGMA],
+                                    segs[k_hit, S_ACC], segs[k_hit, S_VEL], tx, ty)
+            if sampling and seg_tally[k_hit, 1] > 0:
+                f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit)
+                _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, 1.0)
+            vx[i] = nvx
+            vy[i] = nvy
+            vz[i] = nvz
+            x[i] = hx + nudge * nx
+            y[i] = hy + nudge * ny
+            t -= t_hit
+            last = k_hit
+            continue
+        # ---- domain side event
+        if sampling and planes.shape[0] > 0:
+            _cross_planes(px, py, ux, uy, vz[i], t_box, planes, ftally, 1.0)
+        hx = px + ux * t_box
+        hy = py + uy * t_box
+        if side == SIDE_XMIN or side == SIDE_XMAX:
+            hx = box[0] if side == SIDE_XMIN else box[1]
+            hy = min(max(hy, box[2]), box[3])
+            coord = hy
+        else:
+            hy = box[2] if side == SIDE_YMIN else box[3]
+            hx = min(max(hx, box[0]), box[1])
+            coord = hx
+        j = -1
+        for q in range(pieces.shape[0]):
+            if piece_int[q, 0] == side and coord >= pieces[q, 0] and coord <= pieces[q, 1]:
+                j = q
+                break
+        t -= t_box
+        last = -1
+        if j < 0 or piece_int[j, 1] == BND_ABSORB:
+            x[i] = hx
+            y[i] = hy
+            return False
+        if piece_int[j, 1] == BND_PERIODIC:
+            if side == SIDE_XMIN:
+                hx = box[1]
+            elif side == SIDE_XMAX:
+                hx = box[0]
+            elif side == SIDE_YMIN:
+                hy = box[3]
+            else:
+                hy = box[2]
+            x[i] = hx
+            y[i] = hy
+            continue
+        # reflecting side: inward normal, tangent along +x (y-sides) or +y (x-sides)
+        if side == SIDE_XMIN:
+            nx, ny, tx, ty = 1.0, 0.0, 0.0, 1.0
+        elif side == SIDE_XMAX:
+            nx, ny, tx, ty = -1.0, 0.0, 0.0, 1.0
+        elif side == SIDE_YMIN:
+            nx, ny, tx, ty = 0.0, 1.0, 1.0, 0.0
+        else:
+            nx, ny, tx, ty = 0.0, -1.0, 1.0, 0.0
+        w0x, w0y, w0z = ux, uy, vz[i]
+        nvx, nvy, nvz = reflect(w0x, w0y, w0z, nx, ny, pieces[j, 2], pieces[j, 3],
+                                pieces[j, 4], tx, ty)
+        if sampling and piece_int[j, 3] > 0:
+            frac = (coord - pieces[j, 0]) / (pieces[j, 1] - pieces[j, 0])
+            f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac)
+            _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, 1.0)
+        vx[i] = nvx
+        vy[i] = nvy
+        vz[i] = nvz
+        x[i] = hx
+        y[i] = hy
+    return False
+
+
+@njit(inline="always", **JIT)
+def cell_key(px, py, box, nx, ny, dx, dy, nsub):
+    """Sort key of a position: cell * nsub^2 + sub-cell (row-major cells)."""
+    fx = (px - box[0]) / dx
+    fy = (py - box[2]) / dy
+    ix = int(fx)
+    iy = int(fy)
+    if ix < 0:
+        ix = 0
+    elif ix >= nx:
+        ix = nx - 1
+    if iy < 0:
+        iy = 0
+    elif iy >= ny:
+        iy = ny - 1
+    sx = int((fx - ix) * nsub)
+    sy = int((fy - iy) * nsub)
+    if sx < 0:
+        sx = 0
+    elif sx >= nsub:
+        sx = nsub - 1
+    if sy < 0:
+        sy = 0
+    elif sy >= nsub:
+        sy = nsub - 1
+    return ((iy * nx + ix) * nsub + sy) * nsub + sx
+
+
+@njit(**JIT)
+def move_all(n, first_new, tfrac, dt, x, y, vx, vy, vz, key, segs, seg_tally, box, pieces,
+             piece_int, planes, stally, ftally, sampling, nudge, nx, ny, dx, dy, nsub, free):
+    """Move particles 0..n-1: older ones for ``dt``, those from ``first_new`` on for
+    ``tfrac[i - first_new] * dt``. Writes each particle's sort key (-1: removed).
+
+    ``free[c]`` is 1 where no wall or flux plane touches cell c or its neighbours:
+    a flight shorter than a cell that starts there cannot meet one, and if it also
+    ends inside the domain it needs no event search (the fast path).
+
+    Returns the number of particles removed.
+    """
+    removed = 0
+    for i in range(n):
+        t = dt if i < first_new else tfrac[i - first_new] * dt
+        px = x[i]
+        py = y[i]
+        qx = px + vx[i] * t
+        qy = py + vy[i] * t
+        if (qx > box[0] and qx < box[1] and qy > box[2] and qy < box[3]
+                and abs(qx - px) < dx and abs(qy - py) < dy):
+            ix = min(max(int((px - box[0]) / dx), 0), nx - 1)
+            iy = min(max(int((py - box[2]) / dy), 0), ny - 1)
+            if free[iy * nx + ix]:
+                x[i] = qx
+                y[i] = qy
+                key[i] = cell_key(qx, qy, box, nx, ny, dx, dy, nsub)
+                continue
+        alive = move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int,
+                         planes, stally, ftally, sampling, nudge)
+        if alive:
+            key[i] = cell_key(x[i], y[i], box, nx, ny, dx, dy, nsub)
+        else:
+            key[i] = -1
+            removed += 1
+    return removed
+
+
+@njit(**JIT)
+def compute_keys(n, x, y, key, box, nx, ny, dx, dy, nsub):
+    """Sort keys of particles 0..n-1 (used after particles are added directly)."""
+    for i in range(n):
+        key[i] = cell_key(x[i], y[i], box, nx, ny, dx, dy, nsub)

@@ -1,0 +1,226 @@
+"""Planner: from a case to the numerical resolution of a run.
+
+The reference state is the densest gas the case supplies (a reservoir boundary
+or the initial fill). From it come the mean free path lambda, the mean
+collision time tau = lambda / cbar, the Knudsen number Kn = lambda / L and the
+rarefaction parameter delta = p a / (mu v0), v0 = sqrt(2kT/m), with a = L/2 the
+half-width (slit, channel) or radius (Bird 1994 eqs. 4.62-4.65; the delta of the
+published flow-rate tables). The usual
+DSMC resolution rules (Bird 1994 ch. 11; common practice) then fix
+
+* cell size about lambda/3, and at most L/6 so the geometry is resolved, chosen
+  as (L/2)/k so that cells line up with the template geometries;
+* time step min(0.2 tau, half the time a molecule at the mean speed needs to
+  cross a cell);
+* particle weight F_N = n_ref V_cell / N_target (N_target particles per cell);
+* steps to a steady state from four wall-to-wall transits at the most probable
+  speed plus ten collision times, and twice that many sampling steps.
+
+Every choice can be overridden in the case file ([resolution], [run]).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass, field
+
+from rarefy.case import Case
+from rarefy.gas import kinetic
+from rarefy.gas.species import get_species
+
+DEFAULT_PARTICLES_PER_CELL = 20.0
+DEFAULT_SUBCELLS = 2
+DEFAULT_BATCHES = 20
+MAX_CELLS_AUTO = 250_000
+
+# limits of usual practice, used for warnings (Bird 1994 ch. 11; common practice)
+LIMIT_CELL_OVER_MFP = 1.0 / 3.0
+LIMIT_DT_OVER_TAU = 0.2
+LIMIT_MIN_PARTICLES_PER_CELL = 10.0
+
+
+@dataclass(frozen=True)
+class Plan:
+    """Resolved numerical plan of a run (SI units)."""
+
+    gas: str
+    model: str
+    mass_kg: float
+    reference_pressure_pa: float
+    reference_temperature_k: float
+    reference_number_density_m3: float
+    reference_source: str
+    mean_free_path_m: float
+    collision_time_s: float
+    viscosity_pa_s: float
+    mean_speed_m_s: float
+    characteristic_length_m: float
+    knudsen_number: float
+    rarefaction_parameter: float
+    nx: int
+    ny: int
+    cell_dx_m: float
+    cell_dy_m: float
+    subcells: int
+    time_step_s: float
+    particle_weight: float
+    particles_per_cell: float
+    settle_steps: int
+    sample_steps: int
+    batches: int
+    expected_particles: float
+    chosen: dict = field(default_factory=dict)  # key -> "case" or "auto"
+
+    @property
+    def ncell(self) -> int:
+        return self.nx * self.ny
+
+    @property
+    def cell_over_mfp(self) -> float:
+        return max(self.cell_dx_m, self.cell_dy_m) / self.mean_free_path_m
+
+    @property
+    def dt_over_tau(self) -> float:
+        return self.time_step_s / self.collision_time_s
+
+    @property
+    def transit_fraction(self) -> float:
+        """Distance flown at the mean speed in one step, in cell sizes."""
+        return self.time_step_s * self.mean_speed_m_s / min(self.cell_dx_m, self.cell_dy_m)
+
+    def warnings(self) -> list[str]:
+        """Resolution diagnostics that fail the usual limits."""
+        out = []
+        if self.cell_over_mfp > LIMIT_CELL_OVER_MFP * 1.05:
+            out.append(f"cell size is {self.cell_over_mfp:.2f} mean free paths "
+                       f"(usual limit {LIMIT_CELL_OVER_MFP:.2f}): collisions act over "
+                       "too long a distance, transport is overestimated")
+        if self.dt_over_tau > LIMIT_DT_OVER_TAU * 1.05:
+            out.append(f"time step is {self.dt_over_tau:.2f} collision times "
+                       f"(usual limit {LIMIT_DT_OVER_TAU:.2f})")
+        if self.transit_fraction > 1.0:
+            out.append(f"a molecule at the mean speed crosses {self.transit_fraction:.2f} "
+                       "cells per step (keep below 1)")
+        if self.particles_per_cell < LIMIT_MIN_PARTICLES_PER_CELL:
+            out.append(f"{self.particles_per_cell:.1f} particles per cell in the reference "
+                       f"state (usual minimum {LIMIT_MIN_PARTICLES_PER_CELL:.0f})")
+        return out
+
+    def to_dict(self) -> dict:
+        d = asdict(self)
+        d.update(cell_over_mfp=self.cell_over_mfp, dt_over_tau=self.dt_over_tau,
+                 transit_fraction=self.transit_fraction, warnings=self.warnings())
+        return d
+
+
+def reference_state(case: Case) -> tuple[float, float, str]:
+    """(pressure Pa, temperature K, description) of the densest gas the case supplies."""
+    best = (0.0, 0.0, "")
+    best_n = -1.0
+    for b in case.boundaries:
+        if b.kind == "reservoir":
+            n = b.pressure_pa / b.temperature_k
+            if n > best_n:
+                best_n = n
+                best = (b.pressure_pa, b.temperature_k, f"reservoir at {b.side}")
+    init = case.initial
+    if init.pressure_pa > 0 and init.pressure_pa / init.temperature_k > best_n:
+        best = (init.pressure_pa, init.temperature_k, "initial fill")
+    return best
+
+
+def characteristic_length(case: Case) -> float:
+    """The case's length for Kn and delta: given, or the shortest flux plane, or the
+    smaller domain extent."""
+    if case.domain.characteristic_length_m:
+        return case.domain.characteristic_length_m
+    lengths = [math.dist(fp.start, fp.end) * (2.0 if fp.mirrored else 1.0)
+               for fp in case.flux_planes]
+    if lengths:
+        return min(lengths)
+    d = case.domain
+    return min(d.xmax - d.xmin, d.ymax - d.ymin)
+
+
+def _grid(extent: float, target: float) -> tuple[int, float]:
+    n = max(1, math.ceil(extent / target - 1e-9))
+    return n, extent / n
+
+
+def make_plan(case: Case) -> Plan:
+    """Resolve the plan of ``case`` (overrides in the case win over automatic choices)."""
+    sp = get_species(case.gas.species)
+    model = sp.model(case.gas.model)
+    m = sp.mass_kg
+    p_ref, t_ref, src = reference_state(case)
+    n_ref = kinetic.number_density(p_ref, t_ref)
+    mfp = kinetic.mean_free_path(model, n_ref, t_ref)
+    cbar = kinetic.mean_speed(m, t_ref)
+    vmp = kinetic.most_probable_speed(m, t_ref)
+    tau = mfp / cbar
+    mu = kinetic.viscosity(model, t_ref)
+    length = characteristic_length(case)
+    d = case.domain
+    lx, ly = d.xmax - d.xmin, d.ymax - d.ymin
+    chosen = {}
+    res, run = case.resolution, case.run
+
+    if res.cell_size_m:
+        target = res.cell_size_m
+        chosen["cell_size"] = "case"
+    else:
+        target = min(mfp / 3.0, length / 6.0)
+        half = 0.5 * length
+        target = half / math.ceil(half / target - 1e-9)
+        # keep the grid within a laptop's reach; the warning says what it costs
+        while (lx / target) * (ly / target) > MAX_CELLS_AUTO:
+            target *= 1.25
+        chosen["cell_size"] = "auto"
+    nx, dx = _grid(lx, target)
+    ny, dy = _grid(ly, target)
+
+    if res.time_step_s:
+        dt = res.time_step_s
+        chosen["time_step"] = "case"
+    else:
+        dt = min(0.2 * tau, 0.5 * min(dx, dy) / cbar)
+        chosen["time_step"] = "auto"
+
+    vcell = dx * dy * d.depth_m
+    if res.particle_weight:
+        fnum = res.particle_weight
+        chosen["particle_weight"] = "case"
+    else:
+        ppc_target = res.particles_per_cell or DEFAULT_PARTICLES_PER_CELL
+        fnum = n_ref * vcell / ppc_target
+        chosen["particle_weight"] = "case" if res.particles_per_cell else "auto"
+    ppc = n_ref * vcell / fnum
+
+    if run.settle_steps is not None:
+        settle = run.settle_steps
+        chosen["settle_steps"] = "case"
+    else:
+        settle = math.ceil((4.0 * (lx + ly) / vmp + 10.0 * tau) / dt)
+        chosen["settle_steps"] = "auto"
+    if run.sample_steps is not None:
+        sample = run.sample_steps
+        chosen["sample_steps"] = "case"
+    else:
+        sample = max(1000, 2 * settle)
+        chosen["sample_steps"] = "auto"
+    batches = run.batches or DEFAULT_BATCHES
+    batches = min(batches, sample)
+    subcells = res.subcells or DEFAULT_SUBCELLS
+
+    return Plan(
+        gas=sp.name, model=model.kind, mass_kg=m,
+        reference_pressure_pa=p_ref, reference_temperature_k=t_ref,
+        reference_number_density_m3=n_ref, reference_source=src,
+        mean_free_path_m=mfp, collision_time_s=tau, viscosity_pa_s=mu, mean_speed_m_s=cbar,
+        characteristic_length_m=length, knudsen_number=mfp / length,
+        rarefaction_parameter=kinetic.rarefaction_parameter(p_ref, 0.5 * length, mu, m, t_ref),
+        nx=nx, ny=ny, cell_dx_m=dx, cell_dy_m=dy, subcells=subcells, time_step_s=dt,
+        particle_weight=fnum, particles_per_cell=ppc, settle_steps=settle,
+        sample_steps=sample, batches=batches,
+        expected_particles=n_ref * lx * ly * d.depth_m / fnum, chosen=chosen,
+    )

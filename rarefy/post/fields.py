@@ -1,0 +1,76 @@
+"""Macroscopic fields from accumulated velocity moments (kinetic-theory definitions).
+
+With C = c - u the peculiar velocity (Bird 1994 sec. 1.4):
+n = <N> F_N / V;  u = <c>;  k T_i = m <C_i^2>;  T = (T_x + T_y + T_z)/3;  p = n k T;
+shear stress tau_xy = -rho <C_x C_y>;  heat flux q_i = (rho/2) <C^2 C_i>,
+expanded in raw moments as <C^2 C_x> = <c^2 c_x> - u_x <c^2>
+- 2 (u_x <c_x c_x> + u_y <c_x c_y> + u_z <c_x c_z>) + 2 u_x u^2.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from rarefy.constants import K_B
+from rarefy.kernels.config import (
+    M_C2, M_C2VX, M_C2VY, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ, M_VZZ,
+)
+
+__all__ = ["FIELD_UNITS", "fields_from_moments"]
+
+FIELD_UNITS = {
+    "number_density": "m^-3",
+    "velocity_x": "m/s",
+    "velocity_y": "m/s",
+    "velocity_z": "m/s",
+    "temperature": "K",
+    "temperature_x": "K",
+    "temperature_y": "K",
+    "temperature_z": "K",
+    "pressure": "Pa",
+    "shear_stress_xy": "Pa",
+    "heat_flux_x": "W/m^2",
+    "heat_flux_y": "W/m^2",
+    "particles_per_cell": "1",
+}
+
+
+def fields_from_moments(sums: np.ndarray, nsteps: int, volume: np.ndarray, mass_kg: float,
+                        fnum: float) -> dict[str, np.ndarray]:
+    """Fields per cell from moment sums ``sums[ncell, N_MOMENTS]`` over ``nsteps`` steps.
+
+    Cells that held no particle get NaN velocities, temperatures and fluxes.
+    """
+    cnt = sums[:, M_N]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        inv = np.where(cnt > 0, 1.0 / cnt, np.nan)
+        n = np.where(volume > 0, cnt / nsteps * fnum / np.where(volume > 0, volume, 1.0), 0.0)
+        ux, uy, uz = sums[:, M_VX] * inv, sums[:, M_VY] * inv, sums[:, M_VZ] * inv
+        cxx, cyy, czz = sums[:, M_VXX] * inv, sums[:, M_VYY] * inv, sums[:, M_VZZ] * inv
+        cxy, cxz, cyz = sums[:, M_VXY] * inv, sums[:, M_VXZ] * inv, sums[:, M_VYZ] * inv
+        c2 = sums[:, M_C2] * inv
+        u2 = ux * ux + uy * uy + uz * uz
+        tx = mass_kg / K_B * (cxx - ux * ux)
+        ty = mass_kg / K_B * (cyy - uy * uy)
+        tz = mass_kg / K_B * (czz - uz * uz)
+        t = (tx + ty + tz) / 3.0
+        rho = n * mass_kg
+        q3x = sums[:, M_C2VX] * inv - ux * c2 - 2.0 * (ux * cxx + uy * cxy + uz * cxz) \
+            + 2.0 * ux * u2
+        q3y = sums[:, M_C2VY] * inv - uy * c2 - 2.0 * (ux * cxy + uy * cyy + uz * cyz) \
+            + 2.0 * uy * u2
+    return {
+        "number_density": n,
+        "velocity_x": ux,
+        "velocity_y": uy,
+        "velocity_z": uz,
+        "temperature": t,
+        "temperature_x": tx,
+        "temperature_y": ty,
+        "temperature_z": tz,
+        "pressure": n * K_B * t,
+        "shear_stress_xy": -rho * (cxy - ux * uy),
+        "heat_flux_x": 0.5 * rho * q3x,
+        "heat_flux_y": 0.5 * rho * q3y,
+        "particles_per_cell": cnt / nsteps,
+    }
