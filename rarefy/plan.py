@@ -224,3 +224,42 @@ def make_plan(case: Case) -> Plan:
         sample_steps=sample, batches=batches,
         expected_particles=n_ref * lx * ly * d.depth_m / fnum, chosen=chosen,
     )
+
+
+def format_plan(plan: Plan) -> str:
+    """The plan as text, with resolution diagnostics and warnings."""
+    src = plan.chosen
+    lines = [
+        f"gas                    {plan.gas} ({plan.model.upper()})",
+        f"reference state        {plan.reference_pressure_pa:.4g} Pa, "
+        f"{plan.reference_temperature_k:.4g} K ({plan.reference_source})",
+        f"mean free path         {plan.mean_free_path_m * 1e3:.4g} mm",
+        f"mean collision time    {plan.collision_time_s:.4g} s",
+        f"characteristic length  {plan.characteristic_length_m * 1e3:.4g} mm",
+        f"Knudsen number         {plan.knudsen_number:.4g}",
+        f"rarefaction parameter  {plan.rarefaction_parameter:.4g} (delta = p a/(mu v0), "
+        "a = L/2)",
+        f"grid                   {plan.nx} x {plan.ny} cells of "
+        f"{plan.cell_dx_m * 1e3:.4g} x {plan.cell_dy_m * 1e3:.4g} mm "
+        f"({src.get('cell_size')}), {plan.subcells}x{plan.subcells} sub-cells",
+        f"time step              {plan.time_step_s:.4g} s ({src.get('time_step')})",
+        f"particle weight        {plan.particle_weight:.4g} molecules per particle "
+        f"({src.get('particle_weight')})",
+        f"steps                  {plan.settle_steps} to settle "
+        f"({src.get('settle_steps')}), {plan.sample_steps} sampled "
+        f"({src.get('sample_steps')}) in {plan.batches} batches",
+        f"particles (estimate)   {plan.expected_particles:.3g} if the whole domain were at "
+        "the reference state",
+        "",
+        "resolution diagnostics (usual limits in brackets)",
+        f"  cell size / mean free path       {plan.cell_over_mfp:.3g}  "
+        f"[<= {LIMIT_CELL_OVER_MFP:.2f}]",
+        f"  time step / collision time       {plan.dt_over_tau:.3g}  "
+        f"[<= {LIMIT_DT_OVER_TAU:.2f}]",
+        f"  cells crossed per step           {plan.transit_fraction:.3g}  [< 1]",
+        f"  particles per cell (reference)   {plan.particles_per_cell:.3g}  "
+        f"[>= {LIMIT_MIN_PARTICLES_PER_CELL:.0f}]",
+    ]
+    warn = plan.warnings()
+    lines += [""] + [f"warning: {w}" for w in warn] if warn else ["", "all within limits"]
+    return "\n".join(lines)

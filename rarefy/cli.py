@@ -1,0 +1,338 @@
+"""Command line: wires case -> plan -> engine -> output -> post -> report together.
+
+Library code raises; only this module turns errors into one-line messages and
+exit status 2 (bad input) or 1 (failed run).
+"""
+
+from __future__ import annotations
+
+import json
+import logging
+import math
+import secrets
+import sys
+import time
+from pathlib import Path
+
+import click
+
+from rarefy import __version__
+from rarefy.case import CaseError, load_case
+from rarefy.units import UnitError, parse_quantity
+
+log = logging.getLogger("rarefy")
+
+DEMO_CASE = dict(gas="Ar", temperature_k=300.0, upstream_pressure_pa=16.0,
+                 downstream_pressure_pa=0.0, width_m=1e-3, thickness_m=0.0)
+
+
+class InputError(click.ClickException):
+    """Bad input: one clear line, exit status 2."""
+
+    exit_code = 2
+
+    def show(self, file=None):
+        click.echo(f"error: {self.format_message()}", err=True)
+
+
+def _settings(pairs: tuple[str, ...]) -> dict:
+    out = {}
+    for item in pairs:
+        if "=" not in item:
+            raise InputError(f"--set {item!r}: expected KEY=VALUE, e.g. --set run.seed=7")
+        k, v = item.split("=", 1)
+        out[k.strip()] = v.strip()
+    return out
+
+
+def _load(case_path: str, sets: tuple[str, ...] = ()):
+    try:
+        return load_case(case_path, overrides=_settings(sets) or None)
+    except CaseError as exc:
+        raise InputError(str(exc)) from None
+
+
+def _plan(case):
+    from rarefy.plan import make_plan
+    try:
+        return make_plan(case)
+    except (ValueError, KeyError) as exc:
+        raise InputError(f"{case.source_path}: {exc}") from None
+
+
+def _rundir(path: str) -> Path:
+    p = Path(path)
+    if p.exists() and not p.is_dir():
+        raise InputError(f"{path}: exists and is not a folder")
+    return p
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="rarefy")
+def cli():
+    """rarefy: rarefied gas flow through slits, channels and apertures by DSMC.
+
+    A typical session: `rarefy new slit -o slit.toml`, `rarefy check slit.toml`,
+    `rarefy run slit.toml -o slit-run`, `rarefy report slit-run`,
+    `rarefy plot slit-run`.
+    """
+    logging.basicConfig(level=logging.INFO, format="%(message)s", stream=sys.stderr)
+
+
+# ------------------------------------------------------------------------------------- new
+def _quantity(value, kind, option):
+    if value is None:
+        return None
+    try:
+        return parse_quantity(value, kind)
+    except UnitError as exc:
+        raise InputError(f"{option}: {exc}") from None
+
+
+@cli.command()
+@click.argument("kind", type=click.Choice(["slit", "channel", "box"]))
+@click.option("-o", "--output", "output", required=True, type=click.Path(dir_okay=False),
+              help="Case file to write (TOML).")
+@click.option("--gas", default="Ar", show_default=True, help="Species (see `rarefy gases`).")
+@click.option("--temperature", default="300 K", show_default=True,
+              help="Gas and wall temperature, e.g. '300 K' or '20 degC'.")
+@click.option("--pressure", default=None, help="Fill pressure of a box, e.g. '1 Pa'.")
+@click.option("--upstream-pressure", default=None,
+              help="Upstream reservoir pressure (slit, channel), e.g. '10 Pa', '0.1 mbar'.")
+@click.option("--downstream-pressure", default="0", show_default=True,
+              help="Downstream pressure; 0 means vacuum.")
+@click.option("--width", default="1 mm", show_default=True,
+              help="Slit width or channel gap.")
+@click.option("--length", default="5 mm", show_default=True, help="Channel length.")
+@click.option("--thickness", default="0", show_default=True,
+              help="Plate thickness of a slit; 0 is an infinitely thin plate.")
+@click.option("--size", default="10 mm", show_default=True, help="Side of a square box.")
+@click.option("--force", is_flag=True, help="Overwrite an existing file.")
+def new(kind, output, gas, temperature, pressure, upstream_pressure, downstream_pressure,
+        width, length, thickness, size, force):
+    """Write a ready-to-run case file for a slit, channel or box (an invented example
+    scenario to edit)."""
+    from rarefy.gas.species import get_species
+    from rarefy.templates import TEMPLATES
+
+    try:
+        gas = get_species(gas).name
+    except KeyError as exc:
+        raise InputError(f"--gas: {exc.args[0]}") from None
+    t = _quantity(temperature, "temperature", "--temperature")
+    if kind == "box":
+        p = _quantity(pressure or "1 Pa", "pressure", "--pressure")
+        kwargs = dict(pressure_pa=p, size_m=_quantity(size, "length", "--size"))
+    else:
+        if pressure is not None and upstream_pressure is None:
+            upstream_pressure = pressure
+        p0 = _quantity(upstream_pressure or "1 Pa", "pressure", "--upstream-pressure")
+        p1 = _quantity(downstream_pressure, "pressure", "--downstream-pressure")
+        kwargs = dict(upstream_pressure_pa=p0, downstream_pressure_pa=p1,
+                      width_m=_quantity(width, "length", "--width"))
+        if kind == "slit":
+            kwargs["thickness_m"] = _quantity(thickness, "length", "--thickness")
+        else:
+            kwargs["length_m"] = _quantity(length, "length", "--length")
+    out = Path(output)
+    if out.exists() and not force:
+        raise InputError(f"{output}: already exists (use --force to overwrite)")
+    try:
+        text = TEMPLATES[kind](gas=gas, temperature_k=t, **kwargs)
+    except ValueError as exc:
+        raise InputError(str(exc)) from None
+    out.write_text(text)
+    click.echo(f"wrote {output}; next: rarefy check {output}")
+
+
+# ----------------------------------------------------------------------------------- check
+@cli.command()
+@click.argument("case_file", type=click.Path())
+@click.option("--set", "sets", multiple=True, metavar="KEY=VALUE",
+              help="Override a case key, e.g. --set initial.pressure='2 Pa'.")
+@click.option("--json", "as_json", is_flag=True, help="Print the plan as JSON.")
+def check(case_file, sets, as_json):
+    """Validate a case and print its plan and resolution diagnostics."""
+    from rarefy.plan import format_plan
+
+    case = _load(case_file, sets)
+    plan = _plan(case)
+    if as_json:
+        click.echo(json.dumps(plan.to_dict(), indent=2))
+    else:
+        click.echo(format_plan(plan))
+
+
+# ------------------------------------------------------------------------------------- run
+def _progress(quiet: bool):
+    start = time.time()
+
+    def report(phase, done, total, sim):
+        if quiet:
+            return
+        st = sim.coll_stats[0]
+        log.info("%-8s step %6d/%d  particles %8d  collisions/step %8d  %.0f s",
+                 phase, done, total, sim.store.n, st, time.time() - start)
+    return report
+
+
+def execute(case, rundir: Path, seed: int | None, quiet: bool = False) -> Path:
+    """Run ``case`` into ``rundir``; returns the result file path."""
+    from rarefy.engine.simulation import Simulation
+    from rarefy.io.result import RESULT_NAME, write_result
+
+    plan = _plan(case)
+    if seed is None:
+        seed = case.run.seed if case.run.seed is not None else secrets.randbits(31)
+    rundir.mkdir(parents=True, exist_ok=True)
+    (rundir / "case.toml").write_text(case.source_text)
+    if not quiet:
+        log.info("planned %d x %d cells, about %.3g particles, %d + %d steps, seed %d",
+                 plan.nx, plan.ny, plan.expected_particles, plan.settle_steps,
+                 plan.sample_steps, seed)
+        for w in plan.warnings():
+            log.warning("warning: %s", w)
+    sim = Simulation(case, plan, seed)
+    every = max(1, (plan.settle_steps + plan.sample_steps) // 20)
+    try:
+        sim.run(_progress(quiet), every=every)
+    except KeyboardInterrupt:
+        if sim.acc.batch >= 2:
+            path = write_result(rundir / RESULT_NAME, sim, interrupted=True)
+            log.warning("interrupted: wrote %d completed batches to %s", sim.acc.batch, path)
+        else:
+            log.warning("interrupted before two sampling batches were complete; no result")
+        raise SystemExit(130)
+    return write_result(rundir / RESULT_NAME, sim)
+
+
+@cli.command()
+@click.argument("case_file", type=click.Path())
+@click.option("-o", "--output", "output", required=True, type=click.Path(file_okay=False),
+              help="Run folder for result.h5, case.toml and summary.json.")
+@click.option("--seed", type=click.IntRange(0, 2 ** 63 - 1), default=None,
+              help="Random seed (default: the case's [run] seed, else a fresh one; it is "
+                   "recorded in the result).")
+@click.option("--set", "sets", multiple=True, metavar="KEY=VALUE",
+              help="Override a case key, e.g. --set run.sample_steps=20000.")
+@click.option("-q", "--quiet", is_flag=True, help="No progress lines.")
+def run(case_file, output, seed, sets, quiet):
+    """Run a case: settle, sample, write RUNDIR/result.h5 and print the summary."""
+    from rarefy.report import format_report, load_report
+
+    case = _load(case_file, sets)
+    rundir = _rundir(output)
+    path = execute(case, rundir, seed, quiet)
+    rep = load_report(rundir)
+    _write_json(rundir / "summary.json", rep)
+    click.echo(format_report(rep))
+    click.echo(f"\nresult: {path}")
+
+
+def _write_json(path: Path, data: dict) -> None:
+    tmp = path.with_name(path.name + ".tmp")
+    tmp.write_text(json.dumps(data, indent=2, default=_json_default))
+    tmp.replace(path)
+
+
+def _json_default(o):
+    if hasattr(o, "item"):
+        return o.item()
+    raise TypeError(type(o))
+
+
+def _result_dir(rundir: str) -> Path:
+    p = Path(rundir)
+    f = p / "result.h5" if p.is_dir() else p
+    if not f.is_file():
+        raise InputError(f"{rundir}: no result.h5 here (run `rarefy run CASE -o {rundir}`)")
+    return p
+
+
+# ---------------------------------------------------------------------------------- report
+@cli.command()
+@click.argument("rundir", type=click.Path())
+@click.option("--json", "as_json", is_flag=True, help="Print the summary as JSON.")
+def report(rundir, as_json):
+    """Summarise a run: flow rates, transmission probability, surfaces, diagnostics."""
+    from rarefy.report import format_report, load_report
+
+    rep = load_report(_result_dir(rundir))
+    if as_json:
+        click.echo(json.dumps(_nan_to_none(rep), indent=2, default=_json_default))
+    else:
+        click.echo(format_report(rep))
+
+
+def _nan_to_none(o):
+    if isinstance(o, dict):
+        return {k: _nan_to_none(v) for k, v in o.items()}
+    if isinstance(o, list):
+        return [_nan_to_none(v) for v in o]
+    if isinstance(o, float) and not math.isfinite(o):
+        return None
+    return o
+
+
+# ------------------------------------------------------------------------------------ plot
+@cli.command()
+@click.argument("rundir", type=click.Path())
+def plot(rundir):
+    """Write PNG figures (field maps, profiles) into RUNDIR/plots."""
+    from rarefy.io.result import read_result
+    from rarefy.plots.fields import plot_all
+
+    d = _result_dir(rundir)
+    r = read_result(d)
+    outdir = (d if d.is_dir() else d.parent) / "plots"
+    for p in plot_all(r, outdir):
+        click.echo(f"wrote {p}")
+
+
+# ----------------------------------------------------------------------------------- gases
+@cli.command()
+@click.option("--json", "as_json", is_flag=True, help="Print the table as JSON.")
+def gases(as_json):
+    """List the gases with their molecular-model data and sources."""
+    from rarefy.gas.table import format_gas_table, gas_table_rows
+
+    if as_json:
+        click.echo(json.dumps(gas_table_rows(), indent=2))
+    else:
+        click.echo(format_gas_table())
+
+
+# ------------------------------------------------------------------------------------ demo
+@cli.command()
+@click.option("-o", "--output", "output", default="demo-run", show_default=True,
+              type=click.Path(file_okay=False), help="Run folder.")
+@click.option("--seed", type=int, default=2026, show_default=True)
+@click.option("-q", "--quiet", is_flag=True)
+def demo(output, seed, quiet):
+    """Run the built-in example: argon through a 1 mm slit into vacuum at 16 Pa
+    (transitional flow; an invented scenario), then report and plot it."""
+    from rarefy.case import parse_case
+    from rarefy.io.result import read_result
+    from rarefy.plots.fields import plot_all
+    from rarefy.report import format_report, load_report
+    from rarefy.templates import slit_case
+
+    rundir = _rundir(output)
+    rundir.mkdir(parents=True, exist_ok=True)
+    case_path = rundir / "demo-case.toml"
+    case_path.write_text(slit_case(**DEMO_CASE))
+    case = parse_case(case_path.read_text(), str(case_path))
+    execute(case, rundir, seed, quiet)
+    rep = load_report(rundir)
+    _write_json(rundir / "summary.json", rep)
+    click.echo(format_report(rep))
+    for p in plot_all(read_result(rundir), rundir / "plots"):
+        click.echo(f"wrote {p}")
+
+
+def main():
+    cli(prog_name="rarefy")
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

@@ -1,0 +1,159 @@
+"""Derived results with standard errors: flux planes, surfaces, diagnostics.
+
+Standard errors are batch means: the sampling is cut into equal blocks, each
+block gives one estimate, and stderr = std(estimates, ddof=1) / sqrt(blocks)
+(common practice for correlated Monte Carlo series). Blocks are much longer
+than the correlation time of the tallies (hundreds of steps against a few
+collision times), which is what makes them independent.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from rarefy.case import Case
+from rarefy.constants import K_B
+from rarefy.gas.species import get_species
+from rarefy.io.result import ResultData
+from rarefy.kernels.config import (
+    F_C2_POS, F_C_POS, F_N_NEG, F_N_POS, T_C2_IN, T_C2_OUT, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN,
+    T_VT_OUT,
+)
+from rarefy.theory import continuum, effusion
+
+__all__ = ["batch_mean", "flux_plane_results", "surface_results", "diagnostics",
+           "upstream_downstream"]
+
+
+def batch_mean(values: np.ndarray) -> tuple[float, float]:
+    """Mean and batch-means standard error of per-batch estimates (axis 0)."""
+    v = np.asarray(values, dtype=float)
+    ok = np.isfinite(v)
+    v = v[ok]
+    if v.size == 0:
+        return math.nan, math.nan
+    if v.size < 2:
+        return float(v.mean()), math.nan
+    return float(v.mean()), float(v.std(ddof=1) / math.sqrt(v.size))
+
+
+def upstream_downstream(case: Case) -> tuple[float, float, float]:
+    """(p0 Pa, T0 K, p1 Pa): densest reservoir, and the lowest reservoir pressure
+    (0 where any side is vacuum)."""
+    res = [b for b in case.boundaries if b.kind == "reservoir"]
+    if not res:
+        return case.initial.pressure_pa, case.initial.temperature_k, 0.0
+    up = max(res, key=lambda b: b.pressure_pa / b.temperature_k)
+    down = 0.0 if any(b.kind == "vacuum" for b in case.boundaries) else \
+        min(b.pressure_pa for b in res)
+    return up.pressure_pa, up.temperature_k, down
+
+
+def flux_plane_results(r: ResultData, case: Case) -> dict:
+    """Per flux plane: mass flow, transmission probability, crossing speeds, theory."""
+    sp = get_species(case.gas.species)
+    m = sp.mass_kg
+    fnum = r.attrs["particle_weight"]
+    period = r.steps_per_batch * r.attrs["time_step_s"]
+    p0, t0, p1 = upstream_downstream(case)
+    depth = case.domain.depth_m
+    gamma = (5.0 + sp.rot_dof) / (3.0 + sp.rot_dof)
+    out = {}
+    for k, name in enumerate(r.plane_names):
+        factor = 2.0 if r.plane_mirrored[k] else 1.0
+        tally = r.flux[:, k, :]
+        net = (tally[:, F_N_POS] - tally[:, F_N_NEG]) * fnum * factor / period
+        mdot, mdot_se = batch_mean(net * m)
+        a = r.plane_points[k]
+        area = math.hypot(a[2] - a[0], a[3] - a[1]) * depth * factor
+        fm = effusion.free_molecular_mass_flow(area, p0, t0, m)
+        fm_net = effusion.free_molecular_mass_flow(area, p0, t0, m, p_down_pa=p1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            speed = tally[:, F_C_POS] / tally[:, F_N_POS]
+            energy = 0.5 * m * tally[:, F_C2_POS] / tally[:, F_N_POS]
+        c_mean, c_se = batch_mean(speed)
+        e_mean, e_se = batch_mean(energy)
+        choked = continuum.choked_mass_flux(p0, t0, m, gamma) * area
+        rho0 = p0 / (K_B / m * t0)
+        out[name] = {
+            "mass_flow_kg_s": mdot,
+            "mass_flow_stderr_kg_s": mdot_se,
+            "number_flow_1_s": mdot / m,
+            "number_flow_stderr_1_s": mdot_se / m,
+            "throughput_pa_m3_s": mdot / rho0 * p0 if rho0 > 0 else math.nan,
+            "throughput_stderr_pa_m3_s": mdot_se / rho0 * p0 if rho0 > 0 else math.nan,
+            "free_molecular_mass_flow_kg_s": fm,
+            "transmission_probability": mdot / fm if fm > 0 else math.nan,
+            "transmission_probability_stderr": mdot_se / fm if fm > 0 else math.nan,
+            "area_m2": area,
+            "upstream_pressure_pa": p0,
+            "downstream_pressure_pa": p1,
+            "upstream_temperature_k": t0,
+            "crossing_mean_speed_m_s": c_mean,
+            "crossing_mean_speed_stderr_m_s": c_se,
+            "crossing_mean_energy_j": e_mean,
+            "crossing_mean_energy_stderr_j": e_se,
+            "analytic": {
+                "free_molecular_net_mass_flow_kg_s": fm_net,
+                "free_molecular_crossing_mean_speed_m_s":
+                    effusion.flux_weighted_mean_speed(t0, m),
+                "free_molecular_crossing_mean_energy_j":
+                    effusion.flux_weighted_mean_energy(t0),
+                "isentropic_choked_mass_flow_kg_s": choked,
+                "isentropic_choked_transmission_probability": choked / fm if fm > 0
+                else math.nan,
+                "gamma": gamma,
+            },
+        }
+    return out
+
+
+def surface_results(r: ResultData) -> dict:
+    """Per wall (or wall boundary): mean pressure, shear stress and heat flux to it."""
+    m = r.attrs["mass_kg"]
+    fnum = r.attrs["particle_weight"]
+    period = r.steps_per_batch * r.attrs["time_step_s"]
+    out = {}
+    owners = np.array(r.facet_owner)
+    for name in dict.fromkeys(r.facet_owner):
+        sel = owners == name
+        t = r.surf[:, sel, :].sum(axis=1)
+        area = float(r.facet_area[sel].sum())
+        scale = m * fnum / (period * area)
+        p = (t[:, T_VN_IN] + t[:, T_VN_OUT]) * scale
+        tau = (t[:, T_VT_IN] - t[:, T_VT_OUT]) * scale
+        q = 0.5 * (t[:, T_C2_IN] - t[:, T_C2_OUT]) * scale
+        hits = t[:, T_HITS] * fnum / (period * area)
+        row = {"area_m2": area}
+        for key, unit, v in (("pressure", "pa", p), ("shear_stress", "pa", tau),
+                             ("heat_flux", "w_m2", q), ("number_flux", "1_m2_s", hits)):
+            row[f"{key}_{unit}"], row[f"{key}_stderr_{unit}"] = batch_mean(v)
+        out[name] = row
+    return out
+
+
+def diagnostics(r: ResultData) -> dict:
+    """Collision frequency, collision separation, particles per cell."""
+    dt = r.attrs["time_step_s"]
+    ncoll = r.collisions[:, 0]
+    part_time = r.particles * dt
+    with np.errstate(invalid="ignore", divide="ignore"):
+        freq = 2.0 * ncoll / part_time
+        sep = r.collisions[:, 1] / ncoll
+    f_mean, f_se = batch_mean(freq)
+    s_mean, _ = batch_mean(sep)
+    mfp = r.plan["mean_free_path_m"]
+    ppc = r.fields["particles_per_cell"]
+    gas = ppc[(r.volume > 0) & (ppc > 0)]
+    return {
+        "collision_frequency_hz": f_mean,
+        "collision_frequency_stderr_hz": f_se,
+        "mean_collision_separation_m": s_mean,
+        "mean_collision_separation_over_mfp": s_mean / mfp if mfp > 0 else math.nan,
+        "particles_per_cell": float(gas.mean()) if gas.size else 0.0,
+        "particles_per_cell_min": float(gas.min()) if gas.size else 0.0,
+        "mean_particles": float(r.particles.sum() / max(1, r.batches * r.steps_per_batch)),
+        "collisions_sampled": float(ncoll.sum()),
+    }

@@ -1,0 +1,128 @@
+"""Run summaries: the JSON contract of ``rarefy report --json`` and its text form.
+
+Stable top-level keys: ``gas``, ``knudsen_number``, ``rarefaction_parameter``,
+``diagnostics`` (``collision_frequency_hz``, ``mean_collision_separation_over_mfp``,
+``particles_per_cell``) and ``flux_planes`` (per plane ``mass_flow_kg_s``,
+``mass_flow_stderr_kg_s``, ``free_molecular_mass_flow_kg_s``,
+``transmission_probability``, ``transmission_probability_stderr``); more keys
+may be added, none removed.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+from rarefy.case import parse_case
+from rarefy.io.result import ResultData, read_result
+from rarefy.post.results import diagnostics, flux_plane_results, surface_results
+
+__all__ = ["build_report", "format_report", "load_report"]
+
+
+def build_report(r: ResultData) -> dict:
+    """The summary of a result as plain JSON-ready data (SI units in the key names)."""
+    case = parse_case(r.case_text, r.path)
+    planes = flux_plane_results(r, case)
+    for row in planes.values():
+        dp = row["upstream_pressure_pa"] - row["downstream_pressure_pa"]
+        row["conductance_m3_s"] = row["throughput_pa_m3_s"] / dp if dp > 0 else math.nan
+        row["conductance_stderr_m3_s"] = row["throughput_stderr_pa_m3_s"] / dp \
+            if dp > 0 else math.nan
+    p = r.plan
+    return {
+        "title": case.title,
+        "gas": p["gas"],
+        "model": p["model"],
+        "seed": r.attrs["seed"],
+        "rarefy_version": r.attrs["rarefy_version"],
+        "interrupted": bool(r.attrs.get("interrupted", False)),
+        "knudsen_number": p["knudsen_number"],
+        "rarefaction_parameter": p["rarefaction_parameter"],
+        "characteristic_length_m": p["characteristic_length_m"],
+        "reference_pressure_pa": p["reference_pressure_pa"],
+        "reference_temperature_k": p["reference_temperature_k"],
+        "mean_free_path_m": p["mean_free_path_m"],
+        "steps": r.attrs["steps"],
+        "sampled_steps": r.batches * r.steps_per_batch,
+        "batches": r.batches,
+        "time_step_s": r.attrs["time_step_s"],
+        "particle_weight": r.attrs["particle_weight"],
+        "diagnostics": diagnostics(r),
+        "flux_planes": planes,
+        "surfaces": surface_results(r),
+        "plan_warnings": p.get("warnings", []),
+    }
+
+
+def load_report(rundir: str | Path) -> dict:
+    return build_report(read_result(rundir))
+
+
+def _pm(value: float, err: float, unit: str, fmt: str = ".4g") -> str:
+    if err is None or not math.isfinite(err):
+        return f"{value:{fmt}} {unit}"
+    return f"{value:{fmt}} ± {err:.2g} {unit}"
+
+
+def format_report(rep: dict) -> str:
+    """Human-readable summary: every sampled number with its standard error and unit."""
+    d = rep["diagnostics"]
+    lines = [
+        f"{rep['title'] or 'rarefy run'}",
+        f"  gas {rep['gas']} ({rep['model'].upper()}), seed {rep['seed']}, "
+        f"{rep['sampled_steps']} sampled steps in {rep['batches']} batches"
+        + ("  [INTERRUPTED: partial sampling]" if rep["interrupted"] else ""),
+        f"  reference: {rep['reference_pressure_pa']:.4g} Pa, "
+        f"{rep['reference_temperature_k']:.4g} K, mean free path "
+        f"{rep['mean_free_path_m'] * 1e3:.4g} mm",
+        f"  Knudsen number {rep['knudsen_number']:.4g} (L = "
+        f"{rep['characteristic_length_m'] * 1e3:.4g} mm), rarefaction parameter delta "
+        f"{rep['rarefaction_parameter']:.4g}",
+        "",
+        "Diagnostics",
+        f"  collision frequency      "
+        f"{_pm(d['collision_frequency_hz'], d['collision_frequency_stderr_hz'], 'Hz')}",
+        f"  collision separation     {d['mean_collision_separation_over_mfp']:.3g} "
+        "mean free paths (reference state)",
+        f"  particles per cell       {d['particles_per_cell']:.3g} mean, "
+        f"{d['particles_per_cell_min']:.3g} min",
+    ]
+    for name, fp in rep["flux_planes"].items():
+        an = fp["analytic"]
+        q, q_se = fp["throughput_pa_m3_s"], fp["throughput_stderr_pa_m3_s"]
+        c, c_se = fp["conductance_m3_s"], fp["conductance_stderr_m3_s"]
+        w, w_se = fp["transmission_probability"], fp["transmission_probability_stderr"]
+        v, v_se = fp["crossing_mean_speed_m_s"], fp["crossing_mean_speed_stderr_m_s"]
+        lines += [
+            "",
+            f"Flux plane '{name}' (area {fp['area_m2']:.4g} m^2)",
+            "  mass flow                "
+            + _pm(fp["mass_flow_kg_s"], fp["mass_flow_stderr_kg_s"], "kg/s"),
+            "  throughput               " + _pm(q, q_se, "Pa m^3/s")
+            + " = " + _pm(q * 10.0, q_se * 10.0, "mbar L/s"),
+            "  conductance              " + _pm(c * 1e3, c_se * 1e3, "L/s"),
+            "  transmission probability " + _pm(w, w_se, ""),
+            "  crossing mean speed (+)  " + _pm(v, v_se, "m/s"),
+            "  analytic estimates:",
+            f"    free-molecular aperture flow      {fp['free_molecular_mass_flow_kg_s']:.4g} "
+            "kg/s (transmission 1)",
+            "    free-molecular net flow (p1)      "
+            f"{an['free_molecular_net_mass_flow_kg_s']:.4g} kg/s",
+            "    ideal isentropic choked flow      "
+            f"{an['isentropic_choked_mass_flow_kg_s']:.4g} kg/s (transmission "
+            f"{an['isentropic_choked_transmission_probability']:.4g}, gamma "
+            f"{an['gamma']:.4g})",
+            "    free-molecular crossing speed     "
+            f"{an['free_molecular_crossing_mean_speed_m_s']:.4g} m/s",
+        ]
+    if rep["surfaces"]:
+        lines += ["", "Surfaces (mean over each wall)"]
+        for name, s in rep["surfaces"].items():
+            lines.append(
+                f"  {name:<16} p {_pm(s['pressure_pa'], s['pressure_stderr_pa'], 'Pa')}; "
+                f"shear {_pm(s['shear_stress_pa'], s['shear_stress_stderr_pa'], 'Pa')}; "
+                f"heat flux {_pm(s['heat_flux_w_m2'], s['heat_flux_stderr_w_m2'], 'W/m^2')}")
+    if rep["plan_warnings"]:
+        lines += ["", "Resolution warnings"] + [f"  - {w}" for w in rep["plan_warnings"]]
+    return "\n".join(lines)
