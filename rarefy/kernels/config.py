@@ -13,10 +13,13 @@ BND_ABSORB = 0     # vacuum or reservoir: particles leaving the domain are remov
 BND_REFLECT = 1    # wall or symmetry plane (surface parameters in the piece row)
 BND_PERIODIC = 2
 
-# Columns of the surface-parameter rows (walls and reflecting boundary pieces).
-S_SIGMA = 0        # sqrt(k T_w / m), m/s
-S_ACC = 1          # accommodation: probability of diffuse re-emission
-S_VEL = 2          # tangential wall speed, m/s
+# Columns of the wall-segment rows: end points, then the surface parameters
+# sqrt(k T_w / m) (m/s), accommodation (probability of diffuse re-emission) and
+# tangential wall speed (m/s).
+W_X0, W_Y0, W_X1, W_Y1, W_SIGMA, W_ACC, W_VEL = range(7)
+# Columns of the domain-side piece rows: range along the side, then the same
+# surface parameters.
+P_START, P_END, P_SIGMA, P_ACC, P_VEL = range(5)
 
 # Columns of the surface tallies (per facet).
 T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, T_C2_IN, T_C2_OUT = range(7)

@@ -23,8 +23,8 @@ from numba import njit
 
 from rarefy.kernels.config import (
     BND_ABSORB, BND_PERIODIC, F_C2_NEG, F_C2_POS, F_C_NEG, F_C_POS, F_N_NEG, F_N_POS, JIT,
-    S_ACC, S_SIGMA, S_VEL, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN, T_C2_IN, T_C2_OUT,
-    T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT,
+    P_ACC, P_END, P_SIGMA, P_START, P_VEL, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN, T_C2_IN, T_C2_OUT,
+    T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, W_ACC, W_SIGMA, W_VEL,
 )
 
 MAX_EVENTS = 1000  # events in one step before a particle is declared lost
@@ -177,8 +177,8 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
             hx = px + ux * t_hit
             hy = py + uy * t_hit
             w0x, w0y, w0z = ux, uy, vz[i]
-            nvx, nvy, nvz = reflect(w0x, w0y, w0z, nx, ny, segs[k_hit, S_SIGMA],
-                                    segs[k_hit, S_ACC], segs[k_hit, S_VEL], tx, ty)
+            nvx, nvy, nvz = reflect(w0x, w0y, w0z, nx, ny, segs[k_hit, W_SIGMA],
+                                    segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, ty)
             if sampling and seg_tally[k_hit, 1] > 0:
                 f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit)
                 _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, 1.0)
@@ -205,7 +205,7 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
             coord = hx
         j = -1
         for q in range(pieces.shape[0]):
-            if piece_int[q, 0] == side and coord >= pieces[q, 0] and coord <= pieces[q, 1]:
+            if piece_int[q, 0] == side and coord >= pieces[q, P_START] and coord <= pieces[q, P_END]:
                 j = q
                 break
         t -= t_box
@@ -236,10 +236,10 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
         else:
             nx, ny, tx, ty = 0.0, -1.0, 1.0, 0.0
         w0x, w0y, w0z = ux, uy, vz[i]
-        nvx, nvy, nvz = reflect(w0x, w0y, w0z, nx, ny, pieces[j, 2], pieces[j, 3],
-                                pieces[j, 4], tx, ty)
+        nvx, nvy, nvz = reflect(w0x, w0y, w0z, nx, ny, pieces[j, P_SIGMA], pieces[j, P_ACC],
+                                pieces[j, P_VEL], tx, ty)
         if sampling and piece_int[j, 3] > 0:
-            frac = (coord - pieces[j, 0]) / (pieces[j, 1] - pieces[j, 0])
+            frac = (coord - pieces[j, P_START]) / (pieces[j, P_END] - pieces[j, P_START])
             f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac)
             _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, 1.0)
         vx[i] = nvx
