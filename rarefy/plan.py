@@ -69,6 +69,7 @@ class Plan:
     sample_steps: int
     batches: int
     expected_particles: float
+    rot_dof: int = 0
     chosen: dict = field(default_factory=dict)  # key -> "case" or "auto"
 
     @property
@@ -91,6 +92,10 @@ class Plan:
     def warnings(self) -> list[str]:
         """Resolution diagnostics that fail the usual limits."""
         out = []
+        if self.rot_dof:
+            out.append(f"{self.gas} has {self.rot_dof} rotational degrees of freedom, which "
+                       "this version does not exchange in collisions: it is simulated as a "
+                       "monatomic gas of the same mass and cross-section (gamma 5/3)")
         if self.cell_over_mfp > LIMIT_CELL_OVER_MFP * 1.05:
             out.append(f"cell size is {self.cell_over_mfp:.2f} mean free paths "
                        f"(usual limit {LIMIT_CELL_OVER_MFP:.2f}): collisions act over "
@@ -222,7 +227,8 @@ def make_plan(case: Case) -> Plan:
         nx=nx, ny=ny, cell_dx_m=dx, cell_dy_m=dy, subcells=subcells, time_step_s=dt,
         particle_weight=fnum, particles_per_cell=ppc, settle_steps=settle,
         sample_steps=sample, batches=batches,
-        expected_particles=n_ref * lx * ly * d.depth_m / fnum, chosen=chosen,
+        expected_particles=n_ref * lx * ly * d.depth_m / fnum, rot_dof=sp.rot_dof,
+        chosen=chosen,
     )
 
 
