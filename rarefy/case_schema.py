@@ -224,6 +224,8 @@ def _run(chk: Checker, tbl: dict) -> RunControl:
         if vals["sample_steps"] < vals["batches"]:
             chk.fail("run.sample_steps", f"must be >= run.batches ({vals['batches']}); "
                                          f"got {vals['sample_steps']}")
+    if vals["seed"] is not None and vals["seed"] >= 2 ** 32:
+        chk.fail("run.seed", f"must be an integer from 0 to {2 ** 32 - 1}; got {vals['seed']}")
     return RunControl(**vals)
 
 

@@ -210,7 +210,7 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False) -> Path:
 @click.argument("case_file", type=click.Path())
 @click.option("-o", "--output", "output", required=True, type=click.Path(file_okay=False),
               help="Run folder for result.h5, case.toml and summary.json.")
-@click.option("--seed", type=click.IntRange(0, 2 ** 63 - 1), default=None,
+@click.option("--seed", type=click.IntRange(0, 2 ** 32 - 1), default=None,
               help="Random seed (default: the case's [run] seed, else a fresh one; it is "
                    "recorded in the result).")
 @click.option("--set", "sets", multiple=True, metavar="KEY=VALUE",
@@ -306,7 +306,7 @@ def gases(as_json):
 @cli.command()
 @click.option("-o", "--output", "output", default="demo-run", show_default=True,
               type=click.Path(file_okay=False), help="Run folder.")
-@click.option("--seed", type=int, default=2026, show_default=True)
+@click.option("--seed", type=click.IntRange(0, 2 ** 32 - 1), default=2026, show_default=True)
 @click.option("-q", "--quiet", is_flag=True)
 def demo(output, seed, quiet):
     """Run the built-in example: argon through a 1 mm slit into vacuum at 16 Pa
