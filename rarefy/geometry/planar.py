@@ -164,14 +164,29 @@ def build_geometry(case: Case, plan: Plan) -> Geometry:
 
 
 def _free_cells(lines, x0, y0, dx, dy, nx, ny) -> np.ndarray:
-    """1 for cells that no segment touches, dilated by one cell in every direction."""
+    """1 for cells that no segment touches, dilated by one cell in every direction.
+
+    A cell is touched when the segment meets the closed cell rectangle (Liang-Barsky
+    clipping, exact), so no wall can slip between sampled points.
+    """
     touched = np.zeros((ny + 2, nx + 2), dtype=bool)
     for (ax, ay, bx, by) in lines:
-        k = int(4 * max(abs(bx - ax) / dx, abs(by - ay) / dy)) + 2
-        f = np.linspace(0.0, 1.0, k)
-        ix = np.clip(np.floor((ax + f * (bx - ax) - x0) / dx).astype(int), -1, nx) + 1
-        iy = np.clip(np.floor((ay + f * (by - ay) - y0) / dy).astype(int), -1, ny) + 1
-        touched[iy, ix] = True
+        i0 = max(int(np.floor((min(ax, bx) - x0) / dx)) - 1, -1)
+        i1 = min(int(np.floor((max(ax, bx) - x0) / dx)) + 1, nx)
+        j0 = max(int(np.floor((min(ay, by) - y0) / dy)) - 1, -1)
+        j1 = min(int(np.floor((max(ay, by) - y0) / dy)) + 1, ny)
+        ii, jj = np.meshgrid(np.arange(i0, i1 + 1), np.arange(j0, j1 + 1))
+        lo, hi = np.zeros(ii.shape), np.ones(ii.shape)
+        for p, q in ((ax - bx, ax - (x0 + ii * dx)), (bx - ax, x0 + (ii + 1) * dx - ax),
+                     (ay - by, ay - (y0 + jj * dy)), (by - ay, y0 + (jj + 1) * dy - ay)):
+            if p == 0.0:
+                hi = np.where(q < 0.0, -1.0, hi)
+            elif p < 0.0:
+                lo = np.maximum(lo, q / p)
+            else:
+                hi = np.minimum(hi, q / p)
+        hit = lo <= hi
+        touched[jj[hit] + 1, ii[hit] + 1] = True
     grown = touched.copy()
     for sy in (-1, 0, 1):
         for sx in (-1, 0, 1):
