@@ -24,7 +24,8 @@ from numba import njit
 from rarefy.kernels.config import (
     BND_ABSORB, BND_PERIODIC, F_C2_NEG, F_C2_POS, F_C_NEG, F_C_POS, F_N_NEG, F_N_POS, JIT,
     P_ACC, P_END, P_SIGMA, P_START, P_VEL, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN, T_C2_IN, T_C2_OUT,
-    T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, W_ACC, W_SIGMA, W_VEL,
+    T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, W_ACC, W_SIGMA, W_VEL, W_X0, W_X1, W_Y0,
+    W_Y1,
 )
 
 MAX_EVENTS = 1000  # events in one step before a particle is declared lost
@@ -57,23 +58,30 @@ def _tally_surface(tally, facet, vx0, vy0, vz0, vx1, vy1, vz1, nx, ny, tx, ty, w
     tally[facet, T_C2_OUT] += (vx1 * vx1 + vy1 * vy1 + vz1 * vz1) * w
 
 
+@njit(inline="always", **JIT)
+def ray_segment(px, py, ux, uy, ax, ay, bx, by):
+    """Where the ray p + u t meets the line through a, b: (t, s) with the hit at
+    a + s (b - a); t = inf when they are parallel."""
+    ex = bx - ax
+    ey = by - ay
+    det = -ux * ey + ex * uy
+    if det == 0.0:
+        return np.inf, -1.0
+    dx = ax - px
+    dy = ay - py
+    return (-dx * ey + ex * dy) / det, (ux * dy - uy * dx) / det
+
+
 @njit(**JIT)
 def _cross_planes(x, y, vx, vy, vz, t, planes, ftally, w):
     """Tally crossings of the flux planes by the straight path p + v s, 0 < s <= t."""
     for p in range(planes.shape[0]):
+        s_t, s_p = ray_segment(x, y, vx, vy, planes[p, 0], planes[p, 1], planes[p, 2],
+                               planes[p, 3])
+        if s_t <= 0.0 or s_t > t or s_p < 0.0 or s_p >= 1.0:
+            continue
         ex = planes[p, 2] - planes[p, 0]
         ey = planes[p, 3] - planes[p, 1]
-        det = -vx * ey + ex * vy
-        if det == 0.0:
-            continue
-        dx = planes[p, 0] - x
-        dy = planes[p, 1] - y
-        s_t = (-dx * ey + ex * dy) / det
-        if s_t <= 0.0 or s_t > t:
-            continue
-        s_p = (vx * dy - vy * dx) / det
-        if s_p < 0.0 or s_p >= 1.0:
-            continue
         c2 = vx * vx + vy * vy + vz * vz
         # right-hand normal (ey, -ex) is the positive direction
         if vx * ey - vy * ex > 0.0:
@@ -113,18 +121,9 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
         for k in range(segs.shape[0]):
             if k == last:
                 continue
-            ex = segs[k, 2] - segs[k, 0]
-            ey = segs[k, 3] - segs[k, 1]
-            det = -ux * ey + ex * uy
-            if det == 0.0:
-                continue
-            dx = segs[k, 0] - px
-            dy = segs[k, 1] - py
-            s_t = (-dx * ey + ex * dy) / det
-            if s_t <= 0.0 or s_t > t_hit:
-                continue
-            s_s = (ux * dy - uy * dx) / det
-            if s_s < -1e-12 or s_s > 1.0 + 1e-12:
+            s_t, s_s = ray_segment(px, py, ux, uy, segs[k, W_X0], segs[k, W_Y0],
+                                   segs[k, W_X1], segs[k, W_Y1])
+            if s_t <= 0.0 or s_t > t_hit or s_s < -1e-12 or s_s > 1.0 + 1e-12:
                 continue
             t_hit = s_t
             k_hit = k
@@ -164,8 +163,8 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
             # ---- wall segment event
             if sampling and planes.shape[0] > 0:
                 _cross_planes(px, py, ux, uy, vz[i], t_hit, planes, ftally, 1.0)
-            ex = segs[k_hit, 2] - segs[k_hit, 0]
-            ey = segs[k_hit, 3] - segs[k_hit, 1]
+            ex = segs[k_hit, W_X1] - segs[k_hit, W_X0]
+            ey = segs[k_hit, W_Y1] - segs[k_hit, W_Y0]
             el = np.sqrt(ex * ex + ey * ey)
             tx = ex / el
             ty = ey / el
