@@ -161,6 +161,12 @@ class Simulation:
         self._sort()
         s = st.state
         t3 = time.perf_counter()
+        if sampling:  # half the sample before collisions (see rarefy.kernels.sample)
+            sample_cells(g.ncell, self.nsub, self.key_start, s[VX], s[VY], s[VZ],
+                         acc.cell_batch, 0.5)
+            t3b = time.perf_counter()
+            ph["sample"] += t3b - t3
+            t3 = t3b
         self.coll_stats[:] = 0.0
         collide_cells(g.ncell, self.nsub, self.key_start, s[X], s[Y], s[VX], s[VY], s[VZ],
                       g.volume, self.sigcr_max, self.remainder, self.fnum, self.dt,
@@ -168,7 +174,7 @@ class Simulation:
         t4 = time.perf_counter()
         if sampling:
             sample_cells(g.ncell, self.nsub, self.key_start, s[VX], s[VY], s[VZ],
-                         acc.cell_batch)
+                         acc.cell_batch, 0.5)
             acc.collisions[acc.batch] += self.coll_stats
             acc.end_step(st.n, self._batch_fields)
         t5 = time.perf_counter()

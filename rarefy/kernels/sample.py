@@ -1,5 +1,12 @@
 """Accumulate raw velocity moments per cell (sums over particles, float64).
 
+The engine samples twice per step with weight 1/2: after the free flight (before
+collisions) and after the collisions. Collisions relax the shear stress and heat
+flux, which the next flight rebuilds, so a sample taken on one side only is biased by
+O(dt p / mu) (about -7 % in shear at dt = 0.17 tau when taken after collisions); the
+average of the two is the flux carried during the flight to O(dt^2). Conserved
+moments (n, u, T, p) are the same in both samples.
+
 Division into physical fields happens once, in ``rarefy.post.fields``.
 """
 
@@ -12,8 +19,9 @@ from rarefy.kernels.config import (
 
 
 @njit(**JIT)
-def sample_cells(ncell, nsub, key_start, vx, vy, vz, acc):
-    """Add the moments of the particles of every cell to ``acc[ncell, N_MOMENTS]``."""
+def sample_cells(ncell, nsub, key_start, vx, vy, vz, acc, weight):
+    """Add ``weight`` times the moments of every cell's particles to
+    ``acc[ncell, N_MOMENTS]``."""
     ns2 = nsub * nsub
     for c in range(ncell):
         lo = key_start[c * ns2]
@@ -42,16 +50,16 @@ def sample_cells(ncell, nsub, key_start, vx, vy, vz, acc):
             s_cx += c2 * u
             s_cy += c2 * v
             s_c2 += c2
-        acc[c, M_N] += s_n
-        acc[c, M_VX] += s_x
-        acc[c, M_VY] += s_y
-        acc[c, M_VZ] += s_z
-        acc[c, M_VXX] += s_xx
-        acc[c, M_VYY] += s_yy
-        acc[c, M_VZZ] += s_zz
-        acc[c, M_VXY] += s_xy
-        acc[c, M_VXZ] += s_xz
-        acc[c, M_VYZ] += s_yz
-        acc[c, M_C2VX] += s_cx
-        acc[c, M_C2VY] += s_cy
-        acc[c, M_C2] += s_c2
+        acc[c, M_N] += weight * s_n
+        acc[c, M_VX] += weight * s_x
+        acc[c, M_VY] += weight * s_y
+        acc[c, M_VZ] += weight * s_z
+        acc[c, M_VXX] += weight * s_xx
+        acc[c, M_VYY] += weight * s_yy
+        acc[c, M_VZZ] += weight * s_zz
+        acc[c, M_VXY] += weight * s_xy
+        acc[c, M_VXZ] += weight * s_xz
+        acc[c, M_VYZ] += weight * s_yz
+        acc[c, M_C2VX] += weight * s_cx
+        acc[c, M_C2VY] += weight * s_cy
+        acc[c, M_C2] += weight * s_c2
