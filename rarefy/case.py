@@ -74,7 +74,11 @@ class GasSpec:
 
 @dataclass(frozen=True)
 class Domain:
-    """Planar rectangle ``[xmin, xmax] x [ymin, ymax]`` (m) of extent ``depth_m`` in z."""
+    """Rectangle ``[xmin, xmax] x [ymin, ymax]`` (m).
+
+    Planar: extent ``depth_m`` in z. Axisymmetric: y is the radius r, the x axis is the
+    axis of symmetry (ymin = 0) and ``depth_m`` is unused.
+    """
 
     xmin: float
     xmax: float
@@ -82,6 +86,11 @@ class Domain:
     ymax: float
     depth_m: float
     characteristic_length_m: float | None
+    geometry: str = "planar"
+
+    @property
+    def axisymmetric(self) -> bool:
+        return self.geometry == "axisymmetric"
 
     @property
     def width(self) -> float:
@@ -147,6 +156,8 @@ class FluxPlane:
     start: tuple[float, float]
     end: tuple[float, float]
     mirrored: bool
+    opening: str | None = None          # orifice, tube, slit or channel: for the estimates
+    opening_length_m: float = 0.0       # length of the tube or channel (0: thin opening)
 
 
 @dataclass(frozen=True)

@@ -31,7 +31,7 @@ TOP_KEYS = ("title", "gas", "domain", "boundaries", "walls", "flux_planes", "ini
             "resolution", "run")
 SECTION_KEYS = {
     "gas": ("species", "model"),
-    "domain": ("x", "y", "depth", "characteristic_length"),
+    "domain": ("geometry", "x", "y", "depth", "characteristic_length"),
     "initial": ("pressure", "temperature", "velocity"),
     "resolution": ("cell_size", "time_step", "particles_per_cell", "particle_weight", "subcells"),
     "run": ("settle_steps", "sample_steps", "batches", "seed"),
@@ -41,15 +41,18 @@ BOUNDARY_KEYS = {
     "vacuum": ("kind", "from", "to"),
     "periodic": ("kind",),
     "symmetry": ("kind", "from", "to"),
+    "axis": ("kind",),
     "wall": ("kind", "from", "to", "surface", "temperature", "accommodation", "velocity"),
 }
 ALL_BOUNDARY_KEYS = ("kind", "from", "to", "pressure", "temperature", "velocity", "surface",
                      "accommodation")
 ARRAY_KEYS = {
     "walls": ("name", "points", "solid", "surface", "temperature", "accommodation", "velocity"),
-    "flux_planes": ("name", "points", "mirrored"),
+    "flux_planes": ("name", "points", "mirrored", "opening", "opening_length"),
 }
 MODELS = ("hs", "vhs", "vss")
+GEOMETRIES = ("planar", "axisymmetric")
+OPENINGS = ("orifice", "tube", "slit", "channel")
 SURFACES = ("diffuse", "specular", "maxwell")
 
 
@@ -183,11 +186,20 @@ def _domain(chk: Checker, tbl: dict) -> Domain:
         if not hi > lo:
             chk.fail(key, f"max ({hi:.6g} m) must be greater than min ({lo:.6g} m)")
         spans.append((lo, hi))
+    geometry = chk.choice(tbl.get("geometry", "planar"), "domain.geometry", GEOMETRIES)
+    if geometry == "axisymmetric":
+        if "depth" in tbl:
+            chk.fail("domain.depth", "not used in an axisymmetric domain (y is the radius); "
+                                     "remove it")
+        if abs(spans[1][0]) > 1e-12 * (spans[1][1] - spans[1][0]):
+            chk.fail("domain.y", "an axisymmetric domain starts on the axis: y = [0, R] "
+                                 f"(y is the radius); got min {spans[1][0]:.6g} m")
     depth = chk.quantity(tbl.get("depth", 1.0), "domain.depth", "length", 0.0)
     lc = tbl.get("characteristic_length")
     if lc is not None:
         lc = chk.quantity(lc, "domain.characteristic_length", "length", 0.0)
-    return Domain(spans[0][0], spans[0][1], spans[1][0], spans[1][1], depth, lc)
+    return Domain(spans[0][0], spans[0][1], 0.0 if geometry == "axisymmetric" else spans[1][0],
+                  spans[1][1], depth, lc, geometry)
 
 
 def _initial(chk: Checker, tbl: dict, default_t: float) -> InitialState:
@@ -310,6 +322,17 @@ def _boundaries(chk: Checker, value: Any, domain: Domain) -> tuple[Boundary, ...
                                    b.velocity_m_s, b.surface))
             pos = end
     kinds = {b.side: b.kind for b in result}
+    for b in result:
+        if b.kind == "axis" and not (domain.axisymmetric and b.side == "ymin"):
+            chk.fail(f"boundaries.{b.side}.kind", '"axis" is only for boundaries.ymin of a '
+                     'domain with geometry = "axisymmetric"')
+    if domain.axisymmetric:
+        if kinds["ymin"] != "axis":
+            chk.fail("boundaries.ymin.kind", 'an axisymmetric domain needs kind = "axis" on '
+                     "ymin (the axis of symmetry, y = 0)")
+        if kinds["ymax"] == "periodic":
+            chk.fail("boundaries.ymax.kind", "periodic is not possible in the radial "
+                     "direction; allowed: reservoir, vacuum, symmetry, wall")
     for a, b in (("xmin", "xmax"), ("ymin", "ymax")):
         if (kinds[a] == "periodic") != (kinds[b] == "periodic"):
             have, other = (a, b) if kinds[a] == "periodic" else (b, a)
@@ -396,10 +419,18 @@ def _flux_planes(chk: Checker, value: Any, domain: Domain,
         if math.hypot(b[0] - a[0], b[1] - a[1]) <= tol:
             chk.fail(f"{key}.points", "the 2 points coincide; they must be distinct")
         mirrored = chk.boolean(tbl.get("mirrored", False), f"{key}.mirrored")
+        if mirrored and domain.axisymmetric:
+            chk.fail(f"{key}.mirrored", "not used in an axisymmetric domain (a plane from the "
+                     "axis already stands for the whole disk); allowed: false")
         if mirrored and not any(_on_symmetry(p, boundaries, domain, tol) for p in (a, b)):
             chk.fail(f"{key}.mirrored", "true is allowed only when one end of the plane lies "
                      'on a boundary piece with kind = "symmetry"; allowed here: false')
-        planes.append(FluxPlane(name, a, b, mirrored))
+        opening = tbl.get("opening")
+        if opening is not None:
+            opening = chk.choice(opening, f"{key}.opening", OPENINGS)
+        length = chk.quantity(tbl.get("opening_length", 0.0), f"{key}.opening_length",
+                              "length", 0.0, strict=False)
+        planes.append(FluxPlane(name, a, b, mirrored, opening, length))
     return tuple(planes)
 
 

@@ -330,6 +330,14 @@ def demo(output, seed, quiet):
         click.echo(f"wrote {p}")
 
 
+def _register() -> None:
+    from rarefy.cli_estimate import estimate
+    cli.add_command(estimate)
+
+
+_register()
+
+
 def main():
     cli(prog_name="rarefy")
 

@@ -24,6 +24,7 @@ from rarefy.kernels.collide import collide_cells
 from rarefy.kernels.index import counting_sort
 from rarefy.kernels.inject import N_INFLOW_COLS, inject, seed_generator
 from rarefy.kernels.move import compute_keys, move_all
+from rarefy.kernels.move_axi import move_all_axi
 from rarefy.kernels.sample import sample_cells
 from rarefy.plan import Plan
 from rarefy.post.fields import fields_from_moments
@@ -56,6 +57,9 @@ class Simulation:
         self.mass = sp.mass_kg
         self.dt = plan.time_step_s
         self.fnum = plan.particle_weight
+        self.axi = g.axisymmetric
+        self.cell_fnum = self.fnum * g.cell_weight
+        self.lost_duplicates = 0
         self.nsub = plan.subcells
         self.nkeys = g.ncell * self.nsub ** 2
         self.key_start = np.zeros(self.nkeys + 1, dtype=np.int64)
@@ -83,8 +87,9 @@ class Simulation:
 
     # ------------------------------------------------------------------ set-up
     def _inflow_rows(self) -> np.ndarray:
-        """One row per reservoir piece (layout in ``rarefy.kernels.inject``)."""
-        d = self.case.domain
+        """One row per reservoir piece, or per radial row of an axisymmetric end disk
+        (layout in ``rarefy.kernels.inject``)."""
+        d, g = self.case.domain, self.geom
         rows = []
         pos = {"xmin": d.xmin, "xmax": d.xmax, "ymin": d.ymin, "ymax": d.ymax}
         inward = {"xmin": (1, 0), "xmax": (-1, 0), "ymin": (0, 1), "ymax": (0, -1)}
@@ -96,9 +101,23 @@ class Simulation:
             ex, ey = inward[b.side]
             un = b.velocity_m_s[0] * ex + b.velocity_m_s[1] * ey
             flux = kinetic.one_way_number_flux(n, b.temperature_k, self.mass, un)
-            per_step = flux * (b.end - b.start) * d.depth_m * self.dt / self.fnum
-            rows.append((SIDES.index(b.side), b.start, b.end, pos[b.side], vmp,
-                         *b.velocity_m_s, per_step))
+            head = (SIDES.index(b.side), pos[b.side], vmp, *b.velocity_m_s)
+            if not self.axi:
+                per_step = flux * (b.end - b.start) * d.depth_m * self.dt / self.fnum
+                rows.append((head[0], b.start, b.end, *head[1:], 0.0, per_step))
+            elif b.side == "ymax":
+                area = 2.0 * math.pi * d.ymax * (b.end - b.start)
+                per_step = flux * area * self.dt / (self.fnum * g.row_weight[-1])
+                rows.append((head[0], b.start, b.end, *head[1:], 0.0, per_step))
+            else:  # end disk: one row per radial row of cells, each with its weight
+                for j in range(g.ny):
+                    a = max(b.start, j * g.dy)
+                    c = min(b.end, (j + 1) * g.dy)
+                    if c <= a:
+                        continue
+                    area = math.pi * (c * c - a * a)
+                    per_step = flux * area * self.dt / (self.fnum * g.row_weight[j])
+                    rows.append((head[0], a, c, *head[1:], 1.0, per_step))
         return np.array(rows, dtype=np.float64).reshape(-1, N_INFLOW_COLS)
 
     def add_particles(self, x, y, vx, vy, vz) -> None:
@@ -118,12 +137,21 @@ class Simulation:
         g = self.geom
         rng = np.random.default_rng(self.seed)
         n = init.pressure_pa / (K_B * init.temperature_k)
-        area = (g.box[1] - g.box[0]) * (g.box[3] - g.box[2])
-        count = rng.poisson(n * area * g.depth / self.fnum)
+        lx = g.box[1] - g.box[0]
+        if self.axi:  # row by row, radius with density ~ r, count over the row's weight
+            r0 = np.arange(g.ny) * g.dy
+            counts = rng.poisson(n * math.pi * ((r0 + g.dy) ** 2 - r0 ** 2) * lx
+                                 / (self.fnum * g.row_weight))
+            row = np.repeat(np.arange(g.ny), counts)
+            a, b = r0[row], r0[row] + g.dy
+            y = np.sqrt(a * a + rng.random(row.size) * (b * b - a * a))
+            count = row.size
+        else:
+            count = rng.poisson(n * lx * (g.box[3] - g.box[2]) * g.depth / self.fnum)
+            y = rng.uniform(g.box[2], g.box[3], count)
         sig = math.sqrt(K_B * init.temperature_k / self.mass)
         u = init.velocity_m_s
-        self.add_particles(rng.uniform(g.box[0], g.box[1], count),
-                           rng.uniform(g.box[2], g.box[3], count),
+        self.add_particles(rng.uniform(g.box[0], g.box[1], count), y,
                            u[0] + sig * rng.standard_normal(count),
                            u[1] + sig * rng.standard_normal(count),
                            u[2] + sig * rng.standard_normal(count))
@@ -154,9 +182,19 @@ class Simulation:
         t1 = time.perf_counter()
         stally = acc.surf[acc.batch] if sampling else self._dummy_surf
         ftally = acc.flux[acc.batch] if sampling else self._no_flux
-        move_all(n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key,
-                 g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, g.planes, stally, ftally,
-                 sampling, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free)
+        if self.axi:
+            st.reserve(n1 + max(4096, n1 // 4))
+            s = st.state
+            st.n, lost = move_all_axi(
+                n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key, g.segs,
+                g.seg_tally, g.box, g.pieces, g.piece_int, g.planes, stally, ftally, sampling,
+                self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free, g.row_weight,
+                st.capacity)
+            self.lost_duplicates += lost
+        else:
+            move_all(n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key,
+                     g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, g.planes, stally,
+                     ftally, sampling, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free)
         t2 = time.perf_counter()
         self._sort()
         s = st.state
@@ -169,7 +207,7 @@ class Simulation:
             t3 = t3b
         self.coll_stats[:] = 0.0
         collide_cells(g.ncell, self.nsub, self.key_start, s[X], s[Y], s[VX], s[VY], s[VZ],
-                      g.volume, self.sigcr_max, self.remainder, self.fnum, self.dt,
+                      g.volume, self.sigcr_max, self.remainder, self.cell_fnum, self.dt,
                       self.a_coef, self.exponent, self.model.alpha, self.coll_stats)
         t4 = time.perf_counter()
         if sampling:
@@ -185,7 +223,7 @@ class Simulation:
         self.clock.particle_steps += st.n
 
     def _batch_fields(self, sums: np.ndarray, nsteps: int) -> dict:
-        return fields_from_moments(sums, nsteps, self.geom.volume, self.mass, self.fnum)
+        return fields_from_moments(sums, nsteps, self.geom.volume, self.mass, self.cell_fnum)
 
     def run(self, progress: Callable[[str, int, int, "Simulation"], None] | None = None,
             every: int = 100) -> Accumulators:

@@ -1,8 +1,16 @@
-"""Planar geometry: grid, cut-cell volumes, wall segments, boundary pieces, flux planes.
+"""Domain geometry: grid, cut-cell volumes, wall segments, boundary pieces, flux planes.
 
 Turns the case's named objects into the plain arrays the kernels take (column
-layouts in ``rarefy.kernels.move``) plus the tables post-processing needs to
+layouts in ``rarefy.kernels.config``) plus the tables post-processing needs to
 name and size every surface facet.
+
+Planar domains have extent ``depth`` in z. Axisymmetric domains are (x, r) half-planes
+turned about the x axis: a cell is a ring whose volume, by Pappus' theorem, is 2 pi
+times the first moment of its fluid area about the axis (cut cells: the solid part's
+moment comes from the clipped polygon); a wall or flux-plane segment sweeps the
+surface pi (r_a + r_b) |b - a|. Each radial row j of cells carries the particle weight
+factor 2j + 1 (its ring volume over that of the row on the axis), so every row holds
+about the same number of particles.
 """
 
 from __future__ import annotations
@@ -47,6 +55,14 @@ class Geometry:
     poly_y: np.ndarray
     poly_start: np.ndarray
     free: np.ndarray           # uint8 per cell: 1 where no wall or flux plane is near
+    plane_area: np.ndarray     # flux-plane areas, m^2 (mirror images included)
+    axisymmetric: bool = False
+    row_weight: np.ndarray | None = None   # particle weight factor per radial row
+
+    @property
+    def cell_weight(self) -> np.ndarray:
+        """Particle weight factor of every cell (row-major)."""
+        return np.repeat(self.row_weight, self.nx)
 
     @property
     def ncell(self) -> int:
@@ -69,9 +85,17 @@ def _nbins(length: float, cell: float) -> int:
     return max(1, int(round(length / cell)))
 
 
+def swept_area(x0, y0, x1, y1, depth: float, axisymmetric: bool) -> float:
+    """Area of the surface a segment stands for, m^2: length x depth (planar) or the
+    surface of revolution pi (r0 + r1) length (axisymmetric, Pappus)."""
+    length = math.hypot(x1 - x0, y1 - y0)
+    return math.pi * (y0 + y1) * length if axisymmetric else length * depth
+
+
 def build_geometry(case: Case, plan: Plan) -> Geometry:
     """Build the kernel arrays for ``case`` on the grid of ``plan``."""
     d = case.domain
+    axi = d.axisymmetric
     m = plan.mass_kg
     cell = min(plan.cell_dx_m, plan.cell_dy_m)
     owners, fxy, fnorm, farea = [], [], [], []
@@ -80,11 +104,12 @@ def build_geometry(case: Case, plan: Plan) -> Geometry:
         n = _nbins(math.hypot(x1 - x0, y1 - y0), cell)
         first = len(owners)
         for b in range(n):
-            f = (b + 0.5) / n
+            f, fa, fb = (b + 0.5) / n, b / n, (b + 1) / n
             owners.append(name)
             fxy.append((x0 + f * (x1 - x0), y0 + f * (y1 - y0)))
             fnorm.append(normal)
-            farea.append(math.hypot(x1 - x0, y1 - y0) / n * d.depth_m)
+            farea.append(swept_area(x0 + fa * (x1 - x0), y0 + fa * (y1 - y0),
+                                    x0 + fb * (x1 - x0), y0 + fb * (y1 - y0), d.depth_m, axi))
         return first, n
 
     segs, seg_tally = [], []
@@ -106,7 +131,7 @@ def build_geometry(case: Case, plan: Plan) -> Geometry:
     inward = {"xmin": (1.0, 0.0), "xmax": (-1.0, 0.0), "ymin": (0.0, 1.0), "ymax": (0.0, -1.0)}
     for b in case.boundaries:
         side = SIDES.index(b.side)
-        if b.kind in ("vacuum", "reservoir"):
+        if b.kind in ("vacuum", "reservoir", "axis"):
             pieces.append((b.start, b.end, 0.0, 0.0, 0.0))
             piece_int.append((side, BND_ABSORB, 0, 0))
         elif b.kind == "periodic":
@@ -130,15 +155,25 @@ def build_geometry(case: Case, plan: Plan) -> Geometry:
 
     nx, ny, dx, dy = plan.nx, plan.ny, plan.cell_dx_m, plan.cell_dy_m
     solid = np.zeros(nx * ny)
+    solid_moment = np.zeros(nx * ny)
     px = np.array([p[0] for poly in polys for p in poly], dtype=np.float64)
     py = np.array([p[1] for poly in polys for p in poly], dtype=np.float64)
     pstart = np.cumsum([0] + [len(poly) for poly in polys]).astype(np.int64)
     for q in range(len(polys)):
         solid_area_per_cell(px[pstart[q]:pstart[q + 1]], py[pstart[q]:pstart[q + 1]],
-                            d.xmin, d.ymin, dx, dy, nx, ny, solid)
+                            d.xmin, d.ymin, dx, dy, nx, ny, solid, solid_moment)
     area = dx * dy
     fluid = np.clip(area - solid, 0.0, area)
-    fluid[fluid < 1e-9 * area] = 0.0
+    empty = fluid < 1e-9 * area
+    if axi:
+        r0 = d.ymin + dy * np.repeat(np.arange(ny), nx)
+        full_moment = dx * 0.5 * ((r0 + dy) ** 2 - r0 ** 2)
+        volume = 2.0 * math.pi * np.clip(full_moment - solid_moment, 0.0, full_moment)
+        row_weight = 2.0 * np.arange(ny) + 1.0
+    else:
+        volume = fluid * d.depth_m
+        row_weight = np.ones(ny)
+    volume[empty] = 0.0
 
     planes = np.array([fp.start + fp.end for fp in case.flux_planes],
                       dtype=np.float64).reshape(-1, 4)
@@ -147,7 +182,7 @@ def build_geometry(case: Case, plan: Plan) -> Geometry:
     return Geometry(
         box=np.array([d.xmin, d.xmax, d.ymin, d.ymax], dtype=np.float64),
         nx=nx, ny=ny, dx=dx, dy=dy, depth=d.depth_m,
-        volume=fluid * d.depth_m,
+        volume=volume,
         segs=np.array(segs, dtype=np.float64).reshape(-1, 7),
         seg_tally=np.array(seg_tally, dtype=np.int64).reshape(-1, 2),
         pieces=np.array(pieces, dtype=np.float64).reshape(-1, 5),
@@ -160,6 +195,9 @@ def build_geometry(case: Case, plan: Plan) -> Geometry:
         facet_normal=np.array(fnorm, dtype=np.float64).reshape(-1, 2),
         facet_area=np.array(farea, dtype=np.float64),
         poly_x=px, poly_y=py, poly_start=pstart, free=free,
+        plane_area=np.array([swept_area(*fp.start, *fp.end, d.depth_m, axi)
+                             * (2.0 if fp.mirrored else 1.0) for fp in case.flux_planes]),
+        axisymmetric=axi, row_weight=row_weight,
     )
 
 

@@ -64,6 +64,7 @@ class ResultData:
     plane_names: list
     plane_points: np.ndarray
     plane_mirrored: np.ndarray
+    plane_area: np.ndarray
     walls: list
 
     @property
@@ -93,7 +94,8 @@ def write_result(path: str | Path, sim, interrupted: bool = False) -> Path:
             phase_seconds=json.dumps(sim.clock.phase_seconds),
             particle_steps=sim.clock.particle_steps, mass_kg=sim.mass,
             particle_weight=sim.fnum, time_step_s=sim.dt, steps_per_batch=acc.steps_per_batch,
-            sample_start_step=plan.settle_steps,
+            sample_start_step=plan.settle_steps, geometry=sim.case.domain.geometry,
+            lost_duplicates=sim.lost_duplicates,
         )
         f.create_group("case").create_dataset("text", data=sim.case.source_text)
         grid = f.create_group("grid")
@@ -103,7 +105,8 @@ def write_result(path: str | Path, sim, interrupted: bool = False) -> Path:
         gx.make_scale("x")
         gy.make_scale("y")
         _dataset(grid, "volume", geom.volume.reshape(geom.ny, geom.nx), "m^3")
-        fields = fields_from_moments(acc.cell_total, nsteps, geom.volume, sim.mass, sim.fnum)
+        fields = fields_from_moments(acc.cell_total, nsteps, geom.volume, sim.mass,
+                                     sim.cell_fnum)
         fg = f.create_group("fields")
         for name, value in fields.items():
             for suffix, data in (("", value), ("_stderr", acc.field_stderr(name)
@@ -122,6 +125,8 @@ def write_result(path: str | Path, sim, interrupted: bool = False) -> Path:
         pg.create_dataset("name", data=np.array(geom.plane_names, dtype="S"))
         _dataset(pg, "points", geom.planes, "m")
         pg.create_dataset("mirrored", data=geom.plane_mirrored)
+        _dataset(pg, "area", geom.plane_area, "m^2")
+        _dataset(grid, "row_weight", geom.row_weight, "1")
         wg = f.create_group("walls")
         _dataset(wg, "segments", geom.segs[:, :4], "m")
         raw = f.create_group("raw")
@@ -163,5 +168,6 @@ def read_result(path: str | Path) -> ResultData:
             plane_names=_strings(f["flux_planes/name"]),
             plane_points=f["flux_planes/points"][()],
             plane_mirrored=f["flux_planes/mirrored"][()],
+            plane_area=f["flux_planes/area"][()],
             walls=[tuple(s) for s in f["walls/segments"][()]],
         ) if nx * ny else None

@@ -48,7 +48,7 @@ def scatter(urx, ury, urz, alpha):
 
 @njit(**JIT)
 def collide_cells(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
-                  fnum, dt, a_coef, exponent, alpha, stats):
+                  cell_fnum, dt, a_coef, exponent, alpha, stats):
     """NTC collisions in every cell.
 
     Parameters
@@ -56,7 +56,7 @@ def collide_cells(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max, r
     key_start : int64[ncell * nsub^2 + 1], first slot of every (cell, sub-cell) key.
     volume : float64[ncell], cell volume in m^3 (0 for cells inside solids).
     sigcr_max, remainder : float64[ncell], kept between steps.
-    fnum : real molecules per simulated particle.
+    cell_fnum : float64[ncell], real molecules per simulated particle in each cell.
     a_coef, exponent : sigma_T c_r = a_coef * c_r**exponent (m^3/s).
     stats : float64[3] accumulates (collisions, sum of pair separations (m), candidates).
     """
@@ -67,7 +67,7 @@ def collide_cells(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max, r
         npart = hi - lo
         if npart < 2 or volume[c] <= 0.0:
             continue
-        expected = 0.5 * npart * (npart - 1) * fnum * sigcr_max[c] * dt / volume[c] \
+        expected = 0.5 * npart * (npart - 1) * cell_fnum[c] * sigcr_max[c] * dt / volume[c] \
             + remainder[c]
         ncand = int(expected)
         remainder[c] = expected - ncand

@@ -15,9 +15,10 @@ from numba import njit
 
 from rarefy.kernels.config import JIT, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN
 
-# columns of the inflow rows
-I_SIDE, I_START, I_END, I_POS, I_VMP, I_UX, I_UY, I_UZ, I_RATE = range(9)
-N_INFLOW_COLS = 9
+# columns of the inflow rows; I_AXI = 1: an end disk of an axisymmetric domain, where
+# the radius is drawn with density ~ r
+I_SIDE, I_START, I_END, I_POS, I_VMP, I_UX, I_UY, I_UZ, I_AXI, I_RATE = range(10)
+N_INFLOW_COLS = 10
 
 
 @njit(**JIT)
@@ -61,7 +62,12 @@ def inject(inflow, n, x, y, vx, vy, vz, tfrac):
         uy = inflow[k, I_UY]
         uz = inflow[k, I_UZ]
         for _ in range(count):
-            pos = inflow[k, I_START] + np.random.random() * (inflow[k, I_END] - inflow[k, I_START])
+            a = inflow[k, I_START]
+            b = inflow[k, I_END]
+            if inflow[k, I_AXI] > 0.0:
+                pos = np.sqrt(a * a + np.random.random() * (b * b - a * a))
+            else:
+                pos = a + np.random.random() * (b - a)
             if side == SIDE_XMIN or side == SIDE_XMAX:
                 sign = 1.0 if side == SIDE_XMIN else -1.0
                 vn = vmp * flux_weighted_normal(sign * ux / vmp)

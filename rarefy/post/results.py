@@ -58,7 +58,6 @@ def flux_plane_results(r: ResultData, case: Case) -> dict:
     fnum = r.attrs["particle_weight"]
     period = r.steps_per_batch * r.attrs["time_step_s"]
     p0, t0, p1 = upstream_downstream(case)
-    depth = case.domain.depth_m
     gamma = (5.0 + sp.rot_dof) / (3.0 + sp.rot_dof)
     out = {}
     for k, name in enumerate(r.plane_names):
@@ -66,8 +65,7 @@ def flux_plane_results(r: ResultData, case: Case) -> dict:
         tally = r.flux[:, k, :]
         net = (tally[:, F_N_POS] - tally[:, F_N_NEG]) * fnum * factor / period
         mdot, mdot_se = batch_mean(net * m)
-        a = r.plane_points[k]
-        area = math.hypot(a[2] - a[0], a[3] - a[1]) * depth * factor
+        area = float(r.plane_area[k])
         fm = effusion.free_molecular_mass_flow(area, p0, t0, m)
         fm_net = effusion.free_molecular_mass_flow(area, p0, t0, m, p_down_pa=p1)
         with np.errstate(invalid="ignore", divide="ignore"):

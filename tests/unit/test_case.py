@@ -363,7 +363,7 @@ def test_unknown_side():
     "body, key, fragments",
     [
         ('pressure = "1 Pa"', "boundaries.xmin.kind",
-         ("required", "reservoir, vacuum, periodic, symmetry, wall")),
+         ("required", "reservoir, vacuum, periodic, symmetry, axis, wall")),
         ('kind = "inlet"', "boundaries.xmin.kind", ("'inlet'", "reservoir, vacuum")),
         ('kind = "reservoir"\ntemperature = "300 K"', "boundaries.xmin.pressure",
          ("required", "Pa, kPa")),

@@ -14,6 +14,7 @@ show the test has the power to fail.
 import math
 
 import numpy as np
+from matplotlib.path import Path
 import pytest
 from scipy import integrate, stats
 
@@ -82,7 +83,8 @@ def test_collide_cells_conserves_momentum_and_energy(kind, alpha):
     stats_ = np.zeros(3)
     p0, scale, e0 = _totals(vx, vy, vz)
     seed_generator(5)
-    collide_cells(1, 2, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder, fnum, dt,
+    collide_cells(1, 2, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
+                  np.array([fnum]), dt,
                   a_coef, exponent, alpha, stats_)
     p1, _, e1 = _totals(vx, vy, vz)
     assert stats_[2] == 6000             # NTC candidate count (Bird 1994 sec. 11.1, M)
@@ -112,7 +114,8 @@ def test_every_single_collision_conserves_and_keeps_relative_speed(alpha):
         remainder = np.zeros(1)
         fnum = 1.5 / (1e-30 * dt)   # 0.5 * 2 * 1 * fnum * sigcr_max * dt / V = 1.5
         st = np.zeros(3)
-        collide_cells(1, 1, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder, fnum,
+        collide_cells(1, 1, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
+                      np.array([fnum]),
                       dt, a_coef, exponent, alpha, st)
         assert st[0] == 1.0 and st[2] == 1.0
         assert st[1] == pytest.approx(math.hypot(0.1, 0.1), rel=1e-12)
@@ -311,9 +314,20 @@ def test_solid_area_per_cell(shape, reverse):
         px, py = px[::-1].copy(), py[::-1].copy()
     g = GRID
     out = np.zeros(g["nx"] * g["ny"])
-    solid_area_per_cell(px, py, g["x0"], g["y0"], g["dx"], g["dy"], g["nx"], g["ny"], out)
+    moment = np.zeros_like(out)
+    solid_area_per_cell(px, py, g["x0"], g["y0"], g["dx"], g["dy"], g["nx"], g["ny"], out,
+                        moment)
     # exact: the clipped pieces tile the polygon, so they sum to its shoelace area (S)
     assert out.sum() == pytest.approx(_shoelace(px, py), rel=1e-12)
+    # and their first moments about the x axis sum to the polygon's (Pappus volumes, S):
+    # integral of y dA over the polygon, by midpoint sampling on a fine grid
+    xs = np.linspace(px.min(), px.max(), 801)
+    ys = np.linspace(py.min(), py.max(), 801)
+    xm, ym = np.meshgrid(0.5 * (xs[1:] + xs[:-1]), 0.5 * (ys[1:] + ys[:-1]))
+    inside = Path(np.column_stack([px, py])).contains_points(
+        np.column_stack([xm.ravel(), ym.ravel()])).reshape(xm.shape)
+    ref = (ym * inside).sum() * (xs[1] - xs[0]) * (ys[1] - ys[0])
+    assert moment.sum() == pytest.approx(ref, rel=5e-3)
     assert np.all(out >= 0.0) and np.all(out <= g["dx"] * g["dy"] * (1 + 1e-12))
     # slow twin: fine point sampling, per cell, within its rigorous bound
     sampled, bound = _sampled_areas(px, py, 64)
