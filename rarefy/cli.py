@@ -90,7 +90,7 @@ def _quantity(value, kind, option):
 
 
 @cli.command()
-@click.argument("kind", type=click.Choice(["slit", "channel", "box"]))
+@click.argument("kind", type=click.Choice(["slit", "channel", "orifice", "tube", "box"]))
 @click.option("-o", "--output", "output", required=True, type=click.Path(dir_okay=False),
               help="Case file to write (TOML).")
 @click.option("--gas", default="Ar", show_default=True, help="Species (see `rarefy gases`).")
@@ -103,15 +103,19 @@ def _quantity(value, kind, option):
               help="Downstream pressure; 0 means vacuum.")
 @click.option("--width", default="1 mm", show_default=True,
               help="Slit width or channel gap.")
-@click.option("--length", default="5 mm", show_default=True, help="Channel length.")
+@click.option("--radius", default=None, help="Orifice or tube radius [default: 0.5 mm].")
+@click.option("--diameter", default=None, help="Orifice or tube diameter (instead of "
+              "--radius).")
+@click.option("--length", default="5 mm", show_default=True, help="Channel or tube length.")
 @click.option("--thickness", default="0", show_default=True,
-              help="Plate thickness of a slit; 0 is an infinitely thin plate.")
+              help="Plate thickness of a slit or orifice; 0 is an infinitely thin plate.")
 @click.option("--size", default="10 mm", show_default=True, help="Side of a square box.")
 @click.option("--force", is_flag=True, help="Overwrite an existing file.")
 def new(kind, output, gas, temperature, pressure, upstream_pressure, downstream_pressure,
-        width, length, thickness, size, force):
-    """Write a ready-to-run case file for a slit, channel or box (an invented example
-    scenario to edit)."""
+        width, radius, diameter, length, thickness, size, force):
+    """Write a ready-to-run case file: a slit or channel (planar), an orifice or tube
+    (axisymmetric) between two volumes, or a closed box (an invented example scenario
+    to edit). Openings get a flux plane named `throat`."""
     from rarefy.gas.species import get_species
     from rarefy.templates import TEMPLATES
 
@@ -128,9 +132,16 @@ def new(kind, output, gas, temperature, pressure, upstream_pressure, downstream_
             upstream_pressure = pressure
         p0 = _quantity(upstream_pressure or "1 Pa", "pressure", "--upstream-pressure")
         p1 = _quantity(downstream_pressure, "pressure", "--downstream-pressure")
-        kwargs = dict(upstream_pressure_pa=p0, downstream_pressure_pa=p1,
-                      width_m=_quantity(width, "length", "--width"))
-        if kind == "slit":
+        kwargs = dict(upstream_pressure_pa=p0, downstream_pressure_pa=p1)
+        if kind in ("orifice", "tube"):
+            if radius is not None and diameter is not None:
+                raise InputError("give --radius or --diameter, not both")
+            kwargs["radius_m"] = (_quantity(radius or "0.5 mm", "length", "--radius")
+                                  if diameter is None else
+                                  0.5 * _quantity(diameter, "length", "--diameter"))
+        else:
+            kwargs["width_m"] = _quantity(width, "length", "--width")
+        if kind in ("slit", "orifice"):
             kwargs["thickness_m"] = _quantity(thickness, "length", "--thickness")
         else:
             kwargs["length_m"] = _quantity(length, "length", "--length")

@@ -14,7 +14,8 @@ DSMC resolution rules (Bird 1994 ch. 11; common practice) then fix
   cross a cell);
 * particle weight F_N = n_ref V_cell / N_target (N_target particles per cell);
 * steps to a steady state from four wall-to-wall transits at the most probable
-  speed plus ten collision times, and twice that many sampling steps.
+  speed plus ten collision times (at most as long as the transits: in free-molecular
+  flow collisions do not set the pace), and twice that many sampling steps.
 
 Every choice can be overridden in the case file ([resolution], [run]).
 """
@@ -135,11 +136,12 @@ def reference_state(case: Case) -> tuple[float, float, str]:
 
 
 def characteristic_length(case: Case) -> float:
-    """The case's length for Kn and delta: given, or the shortest flux plane, or the
-    smaller domain extent."""
+    """The case's length for Kn and delta: given, or the shortest flux plane (doubled when
+    it stands for its mirror image too, or spans a radius), or the smaller domain extent."""
     if case.domain.characteristic_length_m:
         return case.domain.characteristic_length_m
-    lengths = [math.dist(fp.start, fp.end) * (2.0 if fp.mirrored else 1.0)
+    axi = case.domain.axisymmetric
+    lengths = [math.dist(fp.start, fp.end) * (2.0 if fp.mirrored or axi else 1.0)
                for fp in case.flux_planes]
     if lengths:
         return min(lengths)
@@ -191,7 +193,9 @@ def make_plan(case: Case) -> Plan:
         dt = min(0.2 * tau, 0.5 * min(dx, dy) / cbar)
         chosen["time_step"] = "auto"
 
-    vcell = dx * dy * d.depth_m
+    # reference cell: planar, dx dy depth; axisymmetric, the ring on the axis (weight 1;
+    # every radial row then holds about the same number of particles)
+    vcell = math.pi * dy * dy * dx if d.axisymmetric else dx * dy * d.depth_m
     if res.particle_weight:
         fnum = res.particle_weight
         chosen["particle_weight"] = "case"
@@ -205,7 +209,8 @@ def make_plan(case: Case) -> Plan:
         settle = run.settle_steps
         chosen["settle_steps"] = "case"
     else:
-        settle = math.ceil((4.0 * (lx + ly) / vmp + 10.0 * tau) / dt)
+        transit = 4.0 * (lx + ly) / vmp
+        settle = math.ceil((transit + min(10.0 * tau, transit)) / dt)
         chosen["settle_steps"] = "auto"
     if run.sample_steps is not None:
         sample = run.sample_steps
@@ -227,7 +232,7 @@ def make_plan(case: Case) -> Plan:
         nx=nx, ny=ny, cell_dx_m=dx, cell_dy_m=dy, subcells=subcells, time_step_s=dt,
         particle_weight=fnum, particles_per_cell=ppc, settle_steps=settle,
         sample_steps=sample, batches=batches,
-        expected_particles=n_ref * lx * ly * d.depth_m / fnum, rot_dof=sp.rot_dof,
+        expected_particles=ppc * nx * ny, rot_dof=sp.rot_dof,
         chosen=chosen,
     )
 

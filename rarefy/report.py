@@ -106,13 +106,18 @@ def format_report(rep: dict) -> str:
             "  crossing mean speed (+)  " + _pm(v, v_se, "m/s"),
             "  analytic estimates:",
             f"    free-molecular aperture flow      {fp['free_molecular_mass_flow_kg_s']:.4g} "
-            "kg/s (transmission 1)",
-            "    free-molecular net flow (p1)      "
-            f"{an['free_molecular_net_mass_flow_kg_s']:.4g} kg/s",
+            "kg/s (transmission 1: the reference of the transmission probability)",
+            "    free-molecular net flow           "
+            f"{an['free_molecular_net_mass_flow_kg_s']:.4g} kg/s (transmission "
+            f"{an['free_molecular_transmission']:.4g}"
+            + (f", {an['opening']}" if an["opening"] else "") + ")",
             "    ideal isentropic choked flow      "
             f"{an['isentropic_choked_mass_flow_kg_s']:.4g} kg/s (transmission "
             f"{an['isentropic_choked_transmission_probability']:.4g}, gamma "
             f"{an['gamma']:.4g})",
+            *(["    viscous (Poiseuille) flow         "
+               f"{an['viscous_mass_flow_kg_s']:.4g} kg/s (long-duct continuum limit)"]
+              if math.isfinite(an["viscous_mass_flow_kg_s"]) else []),
             "    free-molecular crossing speed     "
             f"{an['free_molecular_crossing_mean_speed_m_s']:.4g} m/s",
         ]

@@ -13,7 +13,6 @@ import os
 import secrets
 import sys
 from concurrent.futures import ProcessPoolExecutor
-from multiprocessing import get_context
 from pathlib import Path
 
 from rarefy.case import SIDES, CaseError, load_case
@@ -143,6 +142,7 @@ def _prepare(case_path, key, values, fixed, plane, seed):
 
 
 def _init_worker() -> None:
+    """One thread per point (read by numba when the worker first imports it)."""
     os.environ["NUMBA_NUM_THREADS"] = "1"
 
 
@@ -174,9 +174,11 @@ def _run_point(case_path, point, rundir, plane, quiet) -> dict:
         row.update(upstream_pressure_pa=fp["upstream_pressure_pa"],
                    free_molecular_transmission=an.get("free_molecular_transmission", 1.0),
                    continuum_transmission=an["isentropic_choked_transmission_probability"])
-    except (Exception, SystemExit) as exc:
+    except SystemExit:  # execute() turns an interrupt into SystemExit
+        row["error"] = "interrupted"
+    except Exception as exc:
         msg = exc.format_message() if hasattr(exc, "format_message") else str(exc)
-        row["error"] = f"{type(exc).__name__}: {msg}" if not msg.strip() else msg
+        row["error"] = msg if msg.strip() else type(exc).__name__
     return row
 
 
@@ -190,14 +192,6 @@ def write_csv(rows: list[dict], path) -> Path:
         w.writerows(rows)
     os.replace(tmp, path)
     return path
-
-
-def _clean(o):
-    if isinstance(o, dict):
-        return {k: _clean(v) for k, v in o.items()}
-    if isinstance(o, (list, tuple)):
-        return [_clean(v) for v in o]
-    return None if isinstance(o, float) and not math.isfinite(o) else o
 
 
 def run_sweep(case_path, key: str, values, outdir, fixed: dict | None = None,
@@ -245,23 +239,26 @@ def run_sweep(case_path, key: str, values, outdir, fixed: dict | None = None,
     outdir = Path(outdir)
     outdir.mkdir(parents=True, exist_ok=True)
     dirs = [outdir / f"point-{p['index']:02d}" for p in points]
-    with ProcessPoolExecutor(jobs, mp_context=get_context("spawn"),
-                             initializer=_init_worker) as pool:
+    with ProcessPoolExecutor(jobs, initializer=_init_worker) as pool:
         futures = [pool.submit(_run_point, str(case_path), p, str(d), plane, quiet)
                    for p, d in zip(points, dirs)]
         rows = []
-        for p, d, fut in zip(points, dirs, futures):
-            try:
-                rows.append(fut.result())
-            except Exception as exc:  # the worker process died
-                rows.append({**_blank(p, d), "error": f"worker failed: {exc!r}"})
+        try:
+            for p, d, fut in zip(points, dirs, futures):
+                try:
+                    rows.append(fut.result())
+                except Exception as exc:  # the worker process died
+                    rows.append({**_blank(p, d), "error": f"worker failed: {exc!r}"})
+        except KeyboardInterrupt:
+            pool.shutdown(cancel_futures=True)
+            raise
     for row in rows:
         row["key"] = key
     write_csv(rows, outdir / "sweep.csv")
-    from rarefy.cli import _write_json
-    _write_json(outdir / "sweep.json", _clean(dict(
+    from rarefy.cli import _nan_to_none, _write_json
+    _write_json(outdir / "sweep.json", _nan_to_none(dict(
         case=str(case_path), key=key, override_keys=keys, values=values,
-        fixed=dict(fixed or {}), plane=plane, rows=rows)))
+        fixed=dict(fixed or {}), plane=plane, rows=[dict(r) for r in rows])))
     return rows
 
 
@@ -302,9 +299,9 @@ def plot_sweep(rows: list[dict], path, title: str | None = None) -> Path:
         ax.set_xscale("log")
         ax.set_xlabel("rarefaction parameter $\\delta$")
         ax.set_ylabel("reduced flow rate W (transmission probability)")
-        gas = next((r["gas"] for r in rows if r.get("gas")), "")
-        key = next((r["key"] for r in rows if r.get("key")), "")
-        ax.set_title(title or " ".join(s for s in (gas, "sweep of", key) if s).strip())
+        gas, key = (next((r[k] for r in rows if isinstance(r.get(k), str) and r[k]), "")
+                    for k in ("gas", "key"))
+        ax.set_title(title or f"{gas} sweep of {key}".strip())
         ax.grid(True, which="both", alpha=0.3)
         if not done:
             ax.text(0.5, 0.5, "no completed points", transform=ax.transAxes, ha="center")

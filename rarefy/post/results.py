@@ -21,7 +21,8 @@ from rarefy.kernels.config import (
     F_C2_POS, F_C_POS, F_N_NEG, F_N_POS, T_C2_IN, T_C2_OUT, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN,
     T_VT_OUT,
 )
-from rarefy.theory import continuum, effusion
+from rarefy.gas import kinetic
+from rarefy.theory import channel_transmission, continuum, effusion, tube_transmission
 
 __all__ = ["batch_mean", "flux_plane_results", "surface_results", "diagnostics",
            "upstream_downstream"]
@@ -51,6 +52,34 @@ def upstream_downstream(case: Case) -> tuple[float, float, float]:
     return up.pressure_pa, up.temperature_k, down
 
 
+def free_molecular_transmission(plane, axisymmetric: bool) -> float:
+    """Free-molecular transmission probability of the opening a flux plane names (1 for
+    thin orifices and slits; Clausing-type integral equations for tubes and channels)."""
+    if plane.opening is None or plane.opening_length_m <= 0.0:
+        return 1.0
+    half = math.dist(plane.start, plane.end)
+    if plane.opening == "tube" or (axisymmetric and plane.opening == "orifice"):
+        return tube_transmission(plane.opening_length_m / half)
+    gap = 2.0 * half if plane.mirrored else half
+    return channel_transmission(plane.opening_length_m / gap)
+
+
+def viscous_mass_flow(plane, axisymmetric, mu, p0, p1, t0, mass, depth) -> float:
+    """Fully developed laminar (Poiseuille) flow of an isothermal ideal gas through the
+    tube or channel a flux plane names, kg/s: pi R^4 (p0^2 - p1^2) / (16 mu L R_s T)
+    (tube) and H^3 w (p0^2 - p1^2) / (24 mu L R_s T) (channel of gap H, depth w);
+    textbook continuum results (e.g. Lafferty 1998, ch. 2). NaN for thin openings."""
+    if plane.opening is None or plane.opening_length_m <= 0.0:
+        return math.nan
+    rs = K_B / mass
+    half = math.dist(plane.start, plane.end)
+    dp2 = p0 * p0 - p1 * p1
+    if axisymmetric:
+        return math.pi * half ** 4 * dp2 / (16.0 * mu * plane.opening_length_m * rs * t0)
+    gap = 2.0 * half if plane.mirrored else half
+    return gap ** 3 * depth * dp2 / (24.0 * mu * plane.opening_length_m * rs * t0)
+
+
 def flux_plane_results(r: ResultData, case: Case) -> dict:
     """Per flux plane: mass flow, transmission probability, crossing speeds, theory."""
     sp = get_species(case.gas.species)
@@ -75,6 +104,11 @@ def flux_plane_results(r: ResultData, case: Case) -> dict:
         e_mean, e_se = batch_mean(energy)
         choked = continuum.choked_mass_flux(p0, t0, m, gamma) * area
         rho0 = p0 / (K_B / m * t0)
+        plane = case.flux_planes[k]
+        w_fm = free_molecular_transmission(plane, case.domain.axisymmetric)
+        mu0 = kinetic.viscosity(sp.model(case.gas.model), t0)
+        viscous = viscous_mass_flow(plane, case.domain.axisymmetric, mu0, p0, p1, t0, m,
+                                    case.domain.depth_m)
         out[name] = {
             "mass_flow_kg_s": mdot,
             "mass_flow_stderr_kg_s": mdot_se,
@@ -94,7 +128,10 @@ def flux_plane_results(r: ResultData, case: Case) -> dict:
             "crossing_mean_energy_j": e_mean,
             "crossing_mean_energy_stderr_j": e_se,
             "analytic": {
-                "free_molecular_net_mass_flow_kg_s": fm_net,
+                "opening": plane.opening,
+                "free_molecular_transmission": w_fm,
+                "free_molecular_net_mass_flow_kg_s": w_fm * fm_net,
+                "viscous_mass_flow_kg_s": viscous,
                 "free_molecular_crossing_mean_speed_m_s":
                     effusion.flux_weighted_mean_speed(t0, m),
                 "free_molecular_crossing_mean_energy_j":

@@ -3,6 +3,7 @@
 import csv
 import json
 import math
+import multiprocessing
 
 import click
 import pytest
@@ -127,10 +128,29 @@ def test_sweep_writes_table_csv_json_png(swept):
 def test_upstream_pressure_sweep_runs(slit, tmp_path):
     rows = run_sweep(slit, "upstream_pressure", ["2 Pa"], tmp_path / "up",
                      fixed=TINY_FIXED, jobs=1, seed=5)
-    assert rows[0]["error"] == "" and rows[0]["upstream_pressure_pa"] == 2.0
-    case = load_case(tmp_path / "up" / "point-00" / "case.toml")
-    text = (tmp_path / "up" / "point-00" / "result.h5").exists()
-    assert text and case.gas.species == "Ar"
+    assert rows[0]["error"] == "" and rows[0]["seed"] == 5
+    assert rows[0]["upstream_pressure_pa"] == 2.0  # both upstream pieces were set
+    assert (tmp_path / "up" / "point-00" / "result.h5").is_file()
+
+
+@pytest.mark.skipif(multiprocessing.get_start_method() != "fork",
+                    reason="the patched function reaches the workers only by fork")
+def test_failed_point_does_not_stop_the_others(slit, tmp_path, monkeypatch):
+    import rarefy.cli
+    real = rarefy.cli.execute
+
+    def flaky(case, rundir, seed, quiet=False):
+        if seed == 1:
+            raise RuntimeError("simulated failure")
+        return real(case, rundir, seed, quiet)
+
+    monkeypatch.setattr(rarefy.cli, "execute", flaky)
+    rows = run_sweep(slit, "boundaries.xmin.pressure", ["0.5 Pa", "1 Pa"], tmp_path / "f",
+                     fixed=TINY_FIXED, jobs=2, seed=0)
+    assert rows[0]["error"] == "" and rows[0]["transmission_probability"] > 0
+    assert rows[1]["error"] == "simulated failure"
+    assert math.isnan(rows[1]["transmission_probability"])
+    assert len((tmp_path / "f" / "sweep.csv").read_text().splitlines()) == 3
 
 
 def test_bad_value_fails_fast(slit, tmp_path):
