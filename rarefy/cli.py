@@ -197,6 +197,8 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False) -> Path:
         seed = case.run.seed if case.run.seed is not None else secrets.randbits(31)
     rundir.mkdir(parents=True, exist_ok=True)
     (rundir / "case.toml").write_text(case.source_text)
+    if case.overrides:   # what --set changed, so the run can be repeated exactly
+        _write_json(rundir / "case-overrides.json", dict(case.overrides))
     if not quiet:
         log.info("planned %d x %d cells, about %.3g particles, %d + %d steps, seed %d",
                  plan.nx, plan.ny, plan.expected_particles, plan.settle_steps,
@@ -343,7 +345,9 @@ def demo(output, seed, quiet):
 
 def _register() -> None:
     from rarefy.cli_estimate import estimate
+    from rarefy.cli_sweep import sweep
     cli.add_command(estimate)
+    cli.add_command(sweep)
 
 
 _register()

@@ -10,6 +10,7 @@ may be added, none removed.
 
 from __future__ import annotations
 
+import json
 import math
 from pathlib import Path
 
@@ -22,7 +23,7 @@ __all__ = ["build_report", "format_report", "load_report"]
 
 def build_report(r: ResultData) -> dict:
     """The summary of a result as plain JSON-ready data (SI units in the key names)."""
-    case = parse_case(r.case_text, r.path)
+    case = parse_case(r.case_text, r.path, overrides=case_overrides(r) or None)
     planes = flux_plane_results(r, case)
     for row in planes.values():
         dp = row["upstream_pressure_pa"] - row["downstream_pressure_pa"]
@@ -32,6 +33,7 @@ def build_report(r: ResultData) -> dict:
     p = r.plan
     return {
         "title": case.title,
+        "case_overrides": case_overrides(r),
         "gas": p["gas"],
         "model": p["model"],
         "seed": r.attrs["seed"],
@@ -53,6 +55,11 @@ def build_report(r: ResultData) -> dict:
         "surfaces": surface_results(r),
         "plan_warnings": p.get("warnings", []),
     }
+
+
+def case_overrides(r: ResultData) -> dict:
+    """The ``--set`` overrides the run applied on top of its case text."""
+    return {k: v for k, v in json.loads(r.attrs.get("case_overrides", "[]"))}
 
 
 def load_report(rundir: str | Path) -> dict:

@@ -96,6 +96,7 @@ def write_result(path: str | Path, sim, interrupted: bool = False) -> Path:
             particle_weight=sim.fnum, time_step_s=sim.dt, steps_per_batch=acc.steps_per_batch,
             sample_start_step=plan.settle_steps, geometry=sim.case.domain.geometry,
             lost_duplicates=sim.lost_duplicates,
+            case_overrides=json.dumps([list(kv) for kv in sim.case.overrides]),
         )
         f.create_group("case").create_dataset("text", data=sim.case.source_text)
         grid = f.create_group("grid")

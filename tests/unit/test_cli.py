@@ -115,3 +115,19 @@ def test_gases_lists_table():
     for gas in ("He", "Ne", "Ar", "Kr", "Xe", "H2", "N2", "O2", "CO2", "CH4", "air"):
         assert gas in r.output
     assert "Bird" in r.output
+
+
+def test_overrides_reach_the_report(tmp_path):
+    # the report must describe the run as it ran: an overridden upstream pressure sets the
+    # free-molecular reference flow (A p0 sqrt(m / 2 pi k T), kinetic theory)
+    case = tmp_path / "slit.toml"
+    invoke("new", "slit", "-o", str(case), "--upstream-pressure", "0.5 Pa")
+    r = invoke("run", str(case), "-o", str(tmp_path / "run"), "--seed", "3", "-q", *SMALL,
+               "--set", "boundaries.xmin.pressure=2 Pa", "--set",
+               "boundaries.ymax[0].pressure=2 Pa")
+    assert r.exit_code == 0, r.output
+    rep = json.loads(invoke("report", str(tmp_path / "run"), "--json").output)
+    fp = rep["flux_planes"]["throat"]
+    assert fp["upstream_pressure_pa"] == 2.0
+    assert rep["case_overrides"]["boundaries.xmin.pressure"] == "2 Pa"
+    assert json.loads((tmp_path / "run" / "case-overrides.json").read_text())
