@@ -187,8 +187,15 @@ def _progress(quiet: bool):
     return report
 
 
-def execute(case, rundir: Path, seed: int | None, quiet: bool = False) -> Path:
-    """Run ``case`` into ``rundir``; returns the result file path."""
+def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
+            target_error: float | None = None, max_steps: int | None = None,
+            plane: str | None = None) -> Path:
+    """Run ``case`` into ``rundir``; returns the result file path.
+
+    ``target_error``: keep sampling until the relative standard error of the flow
+    through flux plane ``plane`` (default ``throat``, else the first) reaches it, or
+    the run has taken ``max_steps`` steps.
+    """
     from rarefy.engine.simulation import Simulation
     from rarefy.io.result import RESULT_NAME, write_result
 
@@ -207,8 +214,24 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False) -> Path:
             log.warning("warning: %s", w)
     sim = Simulation(case, plan, seed)
     every = max(1, (plan.settle_steps + plan.sample_steps) // 20)
+    plane_index = 0
+    if target_error is not None:
+        names = [fp.name for fp in case.flux_planes]
+        if not names:
+            raise InputError(f"{case.source_path}: --target-error needs a flux plane; the "
+                             "case has none")
+        plane = plane or ("throat" if "throat" in names else names[0])
+        if plane not in names:
+            raise InputError(f"--plane {plane!r}: no such flux plane; the case has "
+                             + ", ".join(names))
+        plane_index = names.index(plane)
+        if max_steps is None:
+            max_steps = 20 * (plan.settle_steps + plan.sample_steps)
     try:
-        sim.run(_progress(quiet), every=every)
+        sim.run(_progress(quiet), every=every, target_error=target_error, plane=plane_index,
+                max_steps=max_steps)
+        if not quiet:
+            log.info("stopped: %s", sim.stop_reason)
     except KeyboardInterrupt:
         if sim.acc.batch >= 2:
             path = write_result(rundir / RESULT_NAME, sim, interrupted=True)
@@ -228,14 +251,20 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False) -> Path:
                    "recorded in the result).")
 @click.option("--set", "sets", multiple=True, metavar="KEY=VALUE",
               help="Override a case key, e.g. --set run.sample_steps=20000.")
+@click.option("--target-error", type=click.FloatRange(0.0, 1.0, min_open=True), default=None,
+              help="Sample until the relative standard error of the flow through the flux "
+                   "plane (default 'throat') is at most this, e.g. 0.01.")
+@click.option("--max-steps", type=click.IntRange(1), default=None,
+              help="Step cap for --target-error [default: 20 x the planned steps].")
+@click.option("--plane", default=None, help="Flux plane for --target-error.")
 @click.option("-q", "--quiet", is_flag=True, help="No progress lines.")
-def run(case_file, output, seed, sets, quiet):
+def run(case_file, output, seed, sets, target_error, max_steps, plane, quiet):
     """Run a case: settle, sample, write RUNDIR/result.h5 and print the summary."""
     from rarefy.report import format_report, load_report
 
     case = _load(case_file, sets)
     rundir = _rundir(output)
-    path = execute(case, rundir, seed, quiet)
+    path = execute(case, rundir, seed, quiet, target_error, max_steps, plane)
     rep = load_report(rundir)
     _write_json(rundir / "summary.json", rep)
     click.echo(format_report(rep))

@@ -46,6 +46,7 @@ def build_report(r: ResultData) -> dict:
         "reference_temperature_k": p["reference_temperature_k"],
         "mean_free_path_m": p["mean_free_path_m"],
         "steps": r.attrs["steps"],
+        "stop_reason": r.attrs.get("stop_reason", ""),
         "sampled_steps": r.batches * r.steps_per_batch,
         "batches": r.batches,
         "time_step_s": r.attrs["time_step_s"],
@@ -80,6 +81,7 @@ def format_report(rep: dict) -> str:
         f"  gas {rep['gas']} ({rep['model'].upper()}), seed {rep['seed']}, "
         f"{rep['sampled_steps']} sampled steps in {rep['batches']} batches"
         + ("  [INTERRUPTED: partial sampling]" if rep["interrupted"] else ""),
+        f"  stopped: {rep['stop_reason']}",
         f"  reference: {rep['reference_pressure_pa']:.4g} Pa, "
         f"{rep['reference_temperature_k']:.4g} K, mean free path "
         f"{rep['mean_free_path_m'] * 1e3:.4g} mm",

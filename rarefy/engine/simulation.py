@@ -226,16 +226,40 @@ class Simulation:
         return fields_from_moments(sums, nsteps, self.geom.volume, self.mass, self.cell_fnum)
 
     def run(self, progress: Callable[[str, int, int, "Simulation"], None] | None = None,
-            every: int = 100) -> Accumulators:
-        """Settle for ``plan.settle_steps``, then sample until every batch is full."""
+            every: int = 100, target_error: float | None = None, plane: int = 0,
+            max_steps: int | None = None) -> Accumulators:
+        """Settle for ``plan.settle_steps``, then sample until every batch is full.
+
+        With ``target_error``, sampling goes on in batches of the same length until the
+        relative standard error of the net flow through flux plane ``plane`` is at most
+        the target, or the run has taken ``max_steps`` steps. ``self.stop_reason`` says
+        which rule ended the run.
+        """
         total_settle = self.plan.settle_steps
         while self.clock.step < total_settle:
             self.step(False)
             if progress and self.clock.step % every == 0:
                 progress("settling", self.clock.step, total_settle, self)
-        sample_total = self.acc.batches * self.acc.steps_per_batch
-        while not self.acc.done:
-            self.step(True)
-            if progress and self.acc.steps_sampled % every == 0:
-                progress("sampling", self.acc.steps_sampled, sample_total, self)
-        return self.acc
+        self.stop_reason = "planned sampling steps done"
+        while True:
+            sample_total = self.acc.batches * self.acc.steps_per_batch
+            while not self.acc.done:
+                self.step(True)
+                if progress and self.acc.steps_sampled % every == 0:
+                    progress("sampling", self.acc.steps_sampled, sample_total, self)
+            if target_error is None:
+                return self.acc
+            rel = self.acc.relative_error(plane)
+            if rel <= target_error:
+                self.stop_reason = f"target error reached ({rel:.3g} <= {target_error:g})"
+                return self.acc
+            room = (max_steps - self.clock.step) // self.acc.steps_per_batch \
+                if max_steps else 10 ** 9
+            if room < 1:
+                self.stop_reason = (f"step cap {max_steps} reached with relative error "
+                                    f"{rel:.3g} (target {target_error:g})")
+                return self.acc
+            # batch means: the error falls as 1/sqrt(batches)
+            need = math.ceil(self.acc.batch * (rel / target_error) ** 2 * 1.05) \
+                - self.acc.batch if math.isfinite(rel) else self.acc.batch
+            self.acc.extend(int(min(max(need, 1), room)))

@@ -97,6 +97,7 @@ def write_result(path: str | Path, sim, interrupted: bool = False) -> Path:
             sample_start_step=plan.settle_steps, geometry=sim.case.domain.geometry,
             lost_duplicates=sim.lost_duplicates,
             case_overrides=json.dumps([list(kv) for kv in sim.case.overrides]),
+            stop_reason="interrupted" if interrupted else getattr(sim, "stop_reason", ""),
         )
         f.create_group("case").create_dataset("text", data=sim.case.source_text)
         grid = f.create_group("grid")

@@ -37,6 +37,27 @@ class Accumulators:
         self.field_sumsq: dict[str, np.ndarray] = {}
         self.field_count: dict[str, np.ndarray] = {}
 
+    def extend(self, extra: int) -> None:
+        """Add ``extra`` batches of the same length (sampling continues into them)."""
+        pad = ((0, extra), (0, 0), (0, 0))
+        self.surf = np.pad(self.surf, pad)
+        self.flux = np.pad(self.flux, pad)
+        self.collisions = np.pad(self.collisions, ((0, extra), (0, 0)))
+        self.particles = np.pad(self.particles, (0, extra))
+        self.batches += extra
+
+    def relative_error(self, plane: int) -> float:
+        """Batch-means relative standard error of the net flow through flux plane
+        ``plane`` over the completed batches (inf while it cannot be told)."""
+        nb = self.batch
+        if nb < 2:
+            return np.inf
+        net = self.flux[:nb, plane, 0] - self.flux[:nb, plane, 1]
+        mean = net.mean()
+        if mean == 0.0:
+            return np.inf
+        return float(net.std(ddof=1) / np.sqrt(nb) / abs(mean))
+
     @property
     def done(self) -> bool:
         return self.batch >= self.batches

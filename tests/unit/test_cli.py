@@ -131,3 +131,25 @@ def test_overrides_reach_the_report(tmp_path):
     assert fp["upstream_pressure_pa"] == 2.0
     assert rep["case_overrides"]["boundaries.xmin.pressure"] == "2 Pa"
     assert json.loads((tmp_path / "run" / "case-overrides.json").read_text())
+
+
+def test_target_error_keeps_sampling_until_reached(tmp_path):
+    case = tmp_path / "slit.toml"
+    invoke("new", "slit", "-o", str(case), "--upstream-pressure", "5 Pa")
+    r = invoke("run", str(case), "-o", str(tmp_path / "run"), "--seed", "5", "-q", *SMALL,
+               "--target-error", "0.01", "--max-steps", "5000")
+    assert r.exit_code == 0, r.output
+    rep = json.loads(invoke("report", str(tmp_path / "run"), "--json").output)
+    fp = rep["flux_planes"]["throat"]
+    assert fp["mass_flow_stderr_kg_s"] / fp["mass_flow_kg_s"] <= 0.01
+    assert rep["batches"] > 4 and rep["stop_reason"].startswith("target error reached")
+
+
+def test_target_error_step_cap(tmp_path):
+    case = tmp_path / "slit.toml"
+    invoke("new", "slit", "-o", str(case), "--upstream-pressure", "5 Pa")
+    r = invoke("run", str(case), "-o", str(tmp_path / "run"), "--seed", "5", "-q", *SMALL,
+               "--target-error", "0.0001", "--max-steps", "300")
+    assert r.exit_code == 0, r.output
+    rep = json.loads(invoke("report", str(tmp_path / "run"), "--json").output)
+    assert rep["steps"] <= 300 and rep["stop_reason"].startswith("step cap")
