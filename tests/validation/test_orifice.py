@@ -1,0 +1,60 @@
+"""Thin round orifice into vacuum across the regimes: reduced flow rate W(delta).
+
+Reference: Sharipov, J. Fluid Mech. 518, 35-60 (2004), DSMC of a thin orifice into
+vacuum, hard-sphere molecules; the values used are a curve fit of that paper's results
+for p1/p0 = 0, tabulated in shared/reference/published-values.md section 3 (P, one
+source; treat as +/- 2 %). W = mdot / (pi R^2 p0 sqrt(m / (2 pi k T0))), delta =
+R p0 / (mu0 v0), v0 = sqrt(2 k T0 / m).
+
+The check is the issue's 3 % band; the run's own standard error must be below 1 % so
+that the check can fail. The delta = 10 run uses cells of 0.7 mean free paths to stay
+within the test budget (usual practice is 1/3; the flow rate of a near-continuum
+orifice depends little on viscosity, and this coarser run agrees with a run at 0.55
+mean free paths, W = 1.450 +/- 0.005, to within its error).
+"""
+
+import math
+
+import pytest
+
+from rarefy.case import parse_case
+from rarefy.cli import execute
+from rarefy.constants import K_B
+from rarefy.gas import kinetic
+from rarefy.gas.species import get_species
+from rarefy.report import load_report
+from rarefy.templates import orifice_case
+
+pytestmark = pytest.mark.validation
+
+T = 300.0
+R = 1e-3
+
+
+def pressure_for_delta(delta):
+    sp = get_species("Ar")
+    mu = kinetic.viscosity(sp.model("hs"), T)
+    v0 = math.sqrt(2.0 * K_B * T / sp.mass_kg)
+    return delta * mu * v0 / R
+
+
+@pytest.mark.parametrize("delta, w_ref, overrides", [
+    (0.1, 1.015, {"resolution.particles_per_cell": 80, "run.sample_steps": 8000}),
+    (1.0, 1.128, {"run.sample_steps": 6000}),
+    (10.0, 1.463, {"resolution.cell_size": "0.0625 mm", "resolution.particles_per_cell": 8,
+                   "run.settle_steps": 2500, "run.sample_steps": 3000}),
+])
+def test_orifice_reduced_flow_rate(tmp_path, delta, w_ref, overrides):
+    p0 = pressure_for_delta(delta)
+    text = orifice_case(gas="Ar", temperature_k=T, upstream_pressure_pa=p0, radius_m=R)
+    case = parse_case(text, "orifice.toml", overrides={"gas.model": "hs", **overrides})
+    execute(case, tmp_path, seed=2, quiet=True)
+    rep = load_report(tmp_path)
+    assert rep["rarefaction_parameter"] == pytest.approx(delta, rel=1e-9)
+    fp = rep["flux_planes"]["throat"]
+    w, err = fp["transmission_probability"], fp["transmission_probability_stderr"]
+    print(f"orifice delta={delta}: W = {w:.4f} +/- {err:.4f} (Sharipov 2004 fit: {w_ref})")
+    assert err < 0.01 * w_ref, "run too short for the check to be able to fail"
+    assert abs(w - w_ref) <= 0.03 * w_ref, (w, err, w_ref)
+    # the simulated flow lies between the free-molecular and the isentropic limits
+    assert 1.0 - 3 * err < w < fp["analytic"]["isentropic_choked_transmission_probability"]
