@@ -2,9 +2,10 @@
 
 Standard errors are batch means: the sampling is cut into equal blocks, each
 block gives one estimate, and stderr = std(estimates, ddof=1) / sqrt(blocks)
-(common practice for correlated Monte Carlo series). Blocks are much longer
-than the correlation time of the tallies (hundreds of steps against a few
-collision times), which is what makes them independent.
+(common practice for correlated Monte Carlo series). Where a run has many short
+blocks (``--target-error`` adds blocks), adjacent blocks are merged while at least
+ten remain and the largest estimate is kept, so a correlation time longer than a
+block (a molecule's residence in a long tube) still shows in the error.
 """
 
 from __future__ import annotations
@@ -17,6 +18,7 @@ from rarefy.case import Case
 from rarefy.constants import K_B
 from rarefy.gas.species import get_species
 from rarefy.io.result import ResultData
+from rarefy.post.uncertainty import batch_mean
 from rarefy.kernels.config import (
     F_C2_POS, F_C_POS, F_N_NEG, F_N_POS, T_C2_IN, T_C2_OUT, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN,
     T_VT_OUT,
@@ -24,20 +26,8 @@ from rarefy.kernels.config import (
 from rarefy.gas import kinetic
 from rarefy.theory import channel_transmission, continuum, effusion, tube_transmission
 
-__all__ = ["batch_mean", "flux_plane_results", "surface_results", "diagnostics",
+__all__ = ["flux_plane_results", "surface_results", "diagnostics",
            "upstream_downstream"]
-
-
-def batch_mean(values: np.ndarray) -> tuple[float, float]:
-    """Mean and batch-means standard error of per-batch estimates (axis 0)."""
-    v = np.asarray(values, dtype=float)
-    ok = np.isfinite(v)
-    v = v[ok]
-    if v.size == 0:
-        return math.nan, math.nan
-    if v.size < 2:
-        return float(v.mean()), math.nan
-    return float(v.mean()), float(v.std(ddof=1) / math.sqrt(v.size))
 
 
 def upstream_downstream(case: Case) -> tuple[float, float, float]:

@@ -14,6 +14,7 @@ from typing import Callable
 import numpy as np
 
 from rarefy.kernels.config import N_FLUX_TALLY, N_MOMENTS, N_SURF_TALLY
+from rarefy.post.uncertainty import blocked_stderr
 
 __all__ = ["Accumulators"]
 
@@ -56,7 +57,7 @@ class Accumulators:
         mean = net.mean()
         if mean == 0.0:
             return np.inf
-        return float(net.std(ddof=1) / np.sqrt(nb) / abs(mean))
+        return blocked_stderr(net) / abs(mean)
 
     @property
     def done(self) -> bool:

@@ -90,6 +90,11 @@ def test_surface_hit_matches_brute_force(kind):
         ax, ar, bx, br = _random_segment(kind, rng)
         px, pr = rng.uniform(-1.5, 1.5), rng.uniform(0.0, 1.3)
         u = rng.standard_normal(3)
+        if rng.random() < 0.7:     # aim at a random point of the surface, so most meet it
+            f, phi = rng.random(), rng.uniform(0.0, 2.0 * math.pi)
+            rho = ar + f * (br - ar)
+            u = np.array([ax + f * (bx - ax) - px, rho * math.cos(phi) - pr,
+                          rho * math.sin(phi)]) + 0.05 * u
         ux, ur, ut = u / np.linalg.norm(u)
         tk, sk = surface_hit(px, pr, ux, ur, ut, ax, ar, bx, br, 0.0)
         tb, sb = _brute_hit(px, pr, ux, ur, ut, ax, ar, bx, br, 0.0)
@@ -106,10 +111,10 @@ def test_surface_hit_matches_brute_force(kind):
         tr, sr = surface_hit(px, pr, ux, ur, ut, bx, br, ax, ar, 0.0)
         assert tr == pytest.approx(tk, rel=1e-12, abs=1e-14), case
         assert sr == pytest.approx(1.0 - sk, rel=1e-9, abs=1e-9), case
-        # the hit point lies on the surface
+        # the hit point lies on the surface (round-off of near-grazing roots: 1e-10)
         hx, hr = px + ux * tk, _radius(px, pr, ux, ur, ut, tk)
-        assert hx == pytest.approx(ax + sk * (bx - ax), abs=1e-12)
-        assert hr == pytest.approx(ar + sk * (br - ar), abs=1e-12)
+        assert hx == pytest.approx(ax + sk * (bx - ax), abs=1e-10)
+        assert hr == pytest.approx(ar + sk * (br - ar), abs=1e-10)
         # second crossing, searched after the first
         t2k, s2k = surface_hit(px, pr, ux, ur, ut, ax, ar, bx, br, tk)
         t2b, s2b = _brute_hit(px, pr, ux, ur, ut, ax, ar, bx, br, tk)
@@ -120,11 +125,11 @@ def test_surface_hit_matches_brute_force(kind):
             assert t2k == pytest.approx(t2b, rel=1e-9, abs=1e-12), case
             assert s2k == pytest.approx(s2b, rel=1e-9, abs=1e-9), case
     # enough of the draws meet the surface for the comparison to mean something
-    assert hits >= 40, hits
+    assert hits >= 150, hits
     if kind != "disk":
-        assert second >= 10, second
+        assert second >= 30, second
     if kind == "cylinder":
-        assert inside >= 10, inside
+        assert inside >= 20, inside
 
 
 # exact cases worked by hand (S): (start x, r), velocity, segment a -> b, (t, s)
@@ -213,7 +218,9 @@ def _fill_can(n, x0, x1, radius, rng):
 def _check_invariants(x, r, vx, vr, vt, ax0, perp0, lz0):
     np.testing.assert_allclose(np.abs(vx), ax0, rtol=0, atol=1e-12)
     np.testing.assert_allclose(np.hypot(vr, vt), perp0, rtol=0, atol=1e-12)
-    np.testing.assert_allclose(r * vt, lz0, rtol=0, atol=1e-11)
+    # every wall hit moves the molecule NUDGE off the wall, changing r v_theta by up to
+    # NUDGE |v|: a few hundred hits allow 1e-9 at most
+    np.testing.assert_allclose(r * vt, lz0, rtol=0, atol=1e-9)
 
 
 def test_specular_can_of_wall_segments_never_leaks():
@@ -269,7 +276,74 @@ def test_specular_outer_cylinder_side_never_leaks(fast):
         assert np.all((x >= 0.0) & (x <= 1.0))
         np.testing.assert_allclose(np.sqrt(vx * vx + vr * vr + vt * vt), speed0, atol=1e-12)
         np.testing.assert_allclose(np.hypot(vr, vt), perp0, rtol=0, atol=1e-12)
-        np.testing.assert_allclose(r * vt, lz0, rtol=0, atol=1e-11)
+        np.testing.assert_allclose(r * vt, lz0, rtol=0, atol=1e-9)   # NUDGE per hit
+
+
+def test_radial_weights_unbiased_in_one_step():
+    # One step of 5e4 molecules in a specular cylinder with rows of weight 2j + 1. The
+    # flights are deterministic (specular walls), so a twin run with unit weights gives
+    # each molecule's end row j1 from its start row j0; the weighted run must then put,
+    # in expectation, w0 / w1 particles into row j1 for each molecule: survival with
+    # probability w0 / w1 < 1, or 1 + int(w0 / w1 - 1 + U) copies (Bird 1994 sec. 15.2,
+    # M, from memory; the expectation and its variance, p (1 - p) or f (1 - f) with f
+    # the fractional part, are exact, S). Checked per end row and in total over 8 seeds,
+    # within 4 standard deviations; the total's deviation must be able to show a 1 % bias.
+    box = np.array([0.0, 1.0, 0.0, 1.0])
+    pieces = np.array([[0.0, 1.0, 0.0, 0.0, 0.0]] * 4)
+    piece_int = np.array([[SIDE_XMIN, BND_PERIODIC, 0, 0], [SIDE_XMAX, BND_PERIODIC, 0, 0],
+                          [SIDE_YMIN, BND_ABSORB, 0, 0], [SIDE_YMAX, BND_REFLECT, 0, 0]],
+                         dtype=np.int64)
+    nx, ny, n, cap = 4, 10, 50000, 400000
+    weights = 2.0 * np.arange(ny) + 1.0
+    free = np.zeros(nx * ny, dtype=np.uint8)
+    rng = np.random.default_rng(11)
+    start = _fill_can(n, 0.0, 1.0, 1.0, rng)
+    j0 = np.minimum((start[1] * ny).astype(np.int64), ny - 1)
+    twin = [a.copy() for a in start]
+    m, lost, _ = _move(*twin, 0.3, np.zeros((0, 7)), pieces, piece_int, box, nx, ny, free)
+    assert m == n and lost == 0
+    j1 = np.minimum((twin[1] * ny).astype(np.int64), ny - 1)
+    ratio = weights[j0] / weights[j1]
+    assert np.mean(j1 != j0) > 0.5                 # most molecules change row
+    frac = np.where(ratio < 1.0, ratio, ratio - np.floor(ratio))
+    var = frac * (1.0 - frac)
+    expect_row = np.bincount(j1, weights=ratio, minlength=ny)
+    var_row = np.bincount(j1, weights=var, minlength=ny)
+    seeds = range(8)
+    got_row = np.zeros(ny)
+    for seed in seeds:
+        seed_generator(100 + seed)
+        arrays = []
+        for a in start:
+            b = np.zeros(cap)
+            b[:n] = a
+            arrays.append(b)
+        key = np.zeros(cap, dtype=np.int64)
+        m, lost = move_all_axi(n, n, np.zeros(1), 0.3, *arrays, key, np.zeros((0, 7)),
+                               np.zeros((0, 2), dtype=np.int64), box, pieces, piece_int,
+                               np.zeros((0, 4)), np.zeros((0, N_SURF_TALLY)),
+                               np.zeros((0, N_FLUX_TALLY)), False, NUDGE, nx, ny, 1.0 / nx,
+                               1.0 / ny, 1, free, weights, cap)
+        assert lost == 0
+        # the flights themselves are those of the twin, duplicates are exact copies
+        np.testing.assert_array_equal(arrays[1][:n], twin[1])
+        alive = np.concatenate([key[:n] >= 0, np.ones(m - n, dtype=bool)])
+        assert np.all(key[n:m] >= 0)
+        r_end = arrays[1][:m][alive]
+        got_row += np.bincount(np.minimum((r_end * ny).astype(np.int64), ny - 1),
+                               minlength=ny)
+    k = len(seeds)
+    sd_row = np.sqrt(k * var_row)
+    print("\nrow: particles expected, got, sd:",
+          [(round(k * e), int(g), round(s_)) for e, g, s_ in zip(expect_row, got_row, sd_row)])
+    assert np.all(np.abs(got_row - k * expect_row) <= 4.0 * sd_row + 1e-9)
+    # total number of molecules stood for (weights), expected: the starting total
+    w_expect = k * np.sum(weights[j0])
+    w_got = np.sum(got_row * weights)
+    w_sd = math.sqrt(k * np.sum(var * weights[j1] ** 2))
+    print(f"molecules: expected {w_expect:.0f}, got {w_got:.0f} +- {w_sd:.0f}")
+    assert abs(w_got - w_expect) <= 4.0 * w_sd
+    assert 4.0 * w_sd < 0.01 * w_expect
 
 
 CLOSED_CAN = """
@@ -304,10 +378,10 @@ def test_closed_specular_cylinder_keeps_every_molecule():
     # The whole engine (radial weights with duplicates and deletions, sorting, the
     # collision step) on a closed specular cylinder with practically no collisions
     # (1e-5 Pa: mean free path about 700 m): after every step every particle is inside
-    # the domain, no duplicate is dropped for want of room, and the number of molecules
-    # the particles stand for, sum of F_N (2j + 1), only wanders as the unbiased
-    # duplications and deletions make it (exact in the mean, S: the expected weight
-    # after a row change is the weight before).
+    # the domain and no duplicate is dropped for want of room (exact). The number of
+    # molecules the particles stand for, sum of F_N (2j + 1), is kept only in the mean
+    # (checked above); without collisions or diffuse walls duplicates never decorrelate,
+    # so it wanders widely and is only printed here.
     from rarefy.case import parse_case
     from rarefy.engine.simulation import Simulation
     from rarefy.plan import make_plan
@@ -333,4 +407,4 @@ def test_closed_specular_cylinder_keeps_every_molecule():
     drift = np.array(totals) / n_start - 1.0
     print(f"\nclosed specular cylinder: {st.n} particles at the end; molecule count "
           f"drift {drift[-1] * 100:+.2f} % (largest {np.abs(drift).max() * 100:.2f} %)")
-    assert np.abs(drift).max() < 0.05
+    assert st.n > 0
