@@ -55,7 +55,7 @@ def plot_fields(r: ResultData, path: Path) -> Path:
         _draw_walls(ax, r)
         ax.set_aspect("equal")
         ax.set_xlabel("x (mm)")
-        ax.set_ylabel("y (mm)")
+        ax.set_ylabel("r (mm)" if r.attrs.get("geometry") == "axisymmetric" else "y (mm)")
     fig.suptitle(f"{r.attrs.get('title') or 'rarefy result'} — {r.attrs['gas']}, "
                  f"seed {r.attrs['seed']}")
     fig.savefig(path, dpi=110)
@@ -77,7 +77,9 @@ def plot_profiles(r: ResultData, path: Path) -> Path:
         ax.fill_between(x, v - e, v + e, color="C0", alpha=0.3, lw=0)
         ax.set_ylabel(label)
         ax.grid(alpha=0.3)
-    axes[-1].set_xlabel("x (mm), along the lowest cell row")
+    axes[-1].set_xlabel("x (mm), along the lowest cell row"
+                        + (" (next to the axis)" if r.attrs.get("geometry") == "axisymmetric"
+                           else ""))
     fig.savefig(path, dpi=110)
     plt.close(fig)
     return path
