@@ -60,6 +60,7 @@ class Simulation:
         self.axi = g.axisymmetric
         self.cell_fnum = self.fnum * g.cell_weight
         self.lost_duplicates = 0
+        self.row_balance = np.zeros(g.ny)
         self.nsub = plan.subcells
         self.nkeys = g.ncell * self.nsub ** 2
         self.key_start = np.zeros(self.nkeys + 1, dtype=np.int64)
@@ -189,7 +190,7 @@ class Simulation:
                 n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key, g.segs,
                 g.seg_tally, g.box, g.pieces, g.piece_int, g.planes, stally, ftally, sampling,
                 self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free, g.row_weight,
-                st.capacity)
+                st.capacity, self.row_balance)
             self.lost_duplicates += lost
         else:
             move_all(n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key,

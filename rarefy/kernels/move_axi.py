@@ -15,8 +15,11 @@ surface normal lies in the meridional plane, and the planar gas-surface model
 Radial weighting: a particle in radial row j stands for (2j + 1) F_N molecules.
 Moving to a row of larger weight it survives with probability w_old / w_new;
 moving to a row of smaller weight it gains on average w_old / w_new - 1 duplicates,
-placed where it is (Bird 1994 sec. 15.2). Duplicates are written into the particle
-arrays after the first ``n`` particles.
+placed where it is (Bird 1994 sec. 15.2). Independent random rounding of these numbers
+would let the amount of gas random-walk without bound in a closed vessel, so the
+rounding remainder is carried per row (error diffusion): each row's count stays
+within about one molecule of its expectation. Duplicates are written into the
+particle arrays after the first ``n`` particles.
 """
 
 import numpy as np
@@ -234,12 +237,13 @@ def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int
 @njit(**JIT)
 def move_all_axi(n, first_new, tfrac, dt, x, r, vx, vr, vt, key, segs, seg_tally, box,
                  pieces, piece_int, planes, stally, ftally, sampling, nudge, nx, ny, dx, dr,
-                 nsub, free, row_weight, capacity):
+                 nsub, free, row_weight, capacity, balance):
     """Move particles 0..n-1 (those from ``first_new`` on for ``tfrac * dt``), apply the
     radial weights and write sort keys (-1: removed).
 
-    Duplicates go to slots n, n+1, ... up to ``capacity``. Returns (new particle count,
-    duplicates that did not fit).
+    Duplicates go to slots n, n+1, ... up to ``capacity``. ``balance[j]`` carries the
+    fractional molecules not yet added to (removed from) radial row j. Returns (new
+    particle count, duplicates that did not fit).
     """
     m = n
     lost = 0
@@ -271,12 +275,16 @@ def move_all_axi(n, first_new, tfrac, dt, x, r, vx, vr, vt, key, segs, seg_tally
         key[i] = k
         if j1 == j0:
             continue
-        ratio = w0 / row_weight[j1]
-        if ratio < 1.0:
-            if np.random.random() > ratio:
-                key[i] = -1
+        # weight change: w0 / w1 - 1 molecules to add (< 0: to remove), rounded at random
+        # with the remainder carried per row, so the gas in a closed vessel stays put
+        b = balance[j1] + w0 / row_weight[j1] - 1.0
+        copies = int(np.floor(b + np.random.random()))
+        if copies < -1:
+            copies = -1
+        balance[j1] = b - copies
+        if copies < 0:
+            key[i] = -1
             continue
-        copies = int(ratio - 1.0 + np.random.random())
         for _ in range(copies):
             if m >= capacity:
                 lost += 1

@@ -21,7 +21,7 @@ from scipy.optimize import brentq
 
 from rarefy.kernels.config import (
     BND_ABSORB, BND_PERIODIC, BND_REFLECT, N_FLUX_TALLY, N_SURF_TALLY, SIDE_XMAX, SIDE_XMIN,
-    SIDE_YMAX, SIDE_YMIN,
+    SIDE_YMAX, SIDE_YMIN, T_HITS,
 )
 from rarefy.kernels.inject import seed_generator
 from rarefy.kernels.move_axi import move_all_axi, rotate_to, surface_hit
@@ -193,16 +193,23 @@ def test_rotate_to_keeps_speed_and_angular_momentum():
 NUDGE = 1e-12
 
 
-def _move(x, r, vx, vr, vt, dt, segs, pieces, piece_int, box, nx, ny, free, weights=None):
+def _move(x, r, vx, vr, vt, dt, segs, pieces, piece_int, box, nx, ny, free, weights=None,
+          stally=None, seg_tally=None):
+    """One step of move_all_axi with unit row weights (unless ``weights``); wall hits are
+    tallied into ``stally`` when given (facets as in ``seg_tally`` and ``piece_int``)."""
     n = len(x)
     key = np.zeros(n, dtype=np.int64)
-    seg_tally = np.zeros((len(segs), 2), dtype=np.int64)
+    if seg_tally is None:
+        seg_tally = np.zeros((len(segs), 2), dtype=np.int64)
+    sampling = stally is not None
+    if stally is None:
+        stally = np.zeros((0, N_SURF_TALLY))
     row_weight = np.ones(ny) if weights is None else weights
     m, lost = move_all_axi(n, n, np.zeros(1), dt, x, r, vx, vr, vt, key, segs, seg_tally, box,
-                           pieces, piece_int, np.zeros((0, 4)), np.zeros((0, N_SURF_TALLY)),
-                           np.zeros((0, N_FLUX_TALLY)), False, NUDGE, nx, ny,
+                           pieces, piece_int, np.zeros((0, 4)), stally,
+                           np.zeros((0, N_FLUX_TALLY)), sampling, NUDGE, nx, ny,
                            (box[1] - box[0]) / nx, (box[3] - box[2]) / ny, 1, free,
-                           row_weight, n)
+                           row_weight, n, np.zeros(ny))
     return m, lost, key
 
 
@@ -225,13 +232,15 @@ def _check_invariants(x, r, vx, vr, vt, ax0, perp0, lz0):
 
 def test_specular_can_of_wall_segments_never_leaks():
     # A closed can made of three wall segments (end disks and a cylinder) inside an
-    # absorbing box: 1e4 molecules bounce specularly for 40 steps of about three wall
-    # hits each. None may leave (the box sides would remove it) and every flight keeps
-    # |v_x|, v_r^2 + v_theta^2 and r v_theta (exact invariants, S).
+    # absorbing box: 1e4 molecules bounce specularly for 60 steps (more than 50 wall hits
+    # each, counted). None may leave (the box sides would remove it) and every flight
+    # keeps |v_x|, v_r^2 + v_theta^2 and r v_theta (exact invariants, S).
     x0, x1, rw = 0.2, 0.8, 0.6
     segs = np.array([[x0, 0.0, x0, rw, 0.0, 0.0, 0.0],     # end disk (specular: acc 0)
                      [x0, rw, x1, rw, 0.0, 0.0, 0.0],      # cylinder
                      [x1, rw, x1, 0.0, 0.0, 0.0, 0.0]])    # end disk, reversed points
+    seg_tally = np.array([[0, 1], [1, 1], [2, 1]], dtype=np.int64)
+    stally = np.zeros((3, N_SURF_TALLY))
     box = np.array([0.0, 1.0, 0.0, 1.0])
     pieces = np.array([[0.0, 1.0, 0.0, 0.0, 0.0]] * 4)
     piece_int = np.array([[s, BND_ABSORB, 0, 0] for s in (SIDE_XMIN, SIDE_XMAX, SIDE_YMIN,
@@ -239,44 +248,56 @@ def test_specular_can_of_wall_segments_never_leaks():
     nx = ny = 5
     free = np.zeros(nx * ny, dtype=np.uint8)     # walls everywhere: no fast path
     rng = np.random.default_rng(3)
-    x, r, vx, vr, vt = _fill_can(10000, x0, x1, rw, rng)
+    n = 10000
+    x, r, vx, vr, vt = _fill_can(n, x0, x1, rw, rng)
     ax0, perp0, lz0 = np.abs(vx), np.hypot(vr, vt), r * vt
-    for _ in range(40):
-        m, lost, key = _move(x, r, vx, vr, vt, 1.0, segs, pieces, piece_int, box, nx, ny, free)
-        assert m == len(x) and lost == 0
+    for _ in range(60):
+        m, lost, key = _move(x, r, vx, vr, vt, 1.0, segs, pieces, piece_int, box, nx, ny, free,
+                             stally=stally, seg_tally=seg_tally)
+        assert m == n and lost == 0
         assert np.all(key >= 0), "a molecule left the can"
         assert np.all((x > x0) & (x < x1)), (x.min(), x.max())
         assert np.all(r < rw) and np.all(r >= 0.0), r.max()
         _check_invariants(x, r, vx, vr, vt, ax0, perp0, lz0)
+    hits = stally[:, T_HITS]
+    print(f"\nspecular can: wall hits per molecule: disks {hits[0] / n:.1f}, "
+          f"{hits[2] / n:.1f}; cylinder {hits[1] / n:.1f}")
+    assert hits.sum() > 50 * n and hits.min() > 10 * n
 
 
 @pytest.mark.parametrize("fast", [False, True])
 def test_specular_outer_cylinder_side_never_leaks(fast):
-    # The domain's own outer cylinder (side ymax) as a specular wall, periodic in x:
-    # 1e4 molecules, 40 steps of about two wall hits each, with and without the fast path
-    # (the fast path must hand every flight that could reach r = R to the full search).
-    # Nothing may cross r = R and the exact invariants hold (S).
+    # The domain's own outer cylinder (side ymax) as a specular wall, periodic in x: 1e4
+    # molecules, with and without the fast path (which must hand every flight that could
+    # reach r = R to the full search), until each has hit the wall 20 times on average
+    # (counted). Nothing may cross r = R and the exact invariants hold (S).
     box = np.array([0.0, 1.0, 0.0, 1.0])
     pieces = np.array([[0.0, 1.0, 0.0, 0.0, 0.0]] * 4)
     piece_int = np.array([[SIDE_XMIN, BND_PERIODIC, 0, 0], [SIDE_XMAX, BND_PERIODIC, 0, 0],
-                          [SIDE_YMIN, BND_ABSORB, 0, 0], [SIDE_YMAX, BND_REFLECT, 0, 0]],
+                          [SIDE_YMIN, BND_ABSORB, 0, 0], [SIDE_YMAX, BND_REFLECT, 0, 1]],
                          dtype=np.int64)
+    stally = np.zeros((1, N_SURF_TALLY))
     nx = ny = 8
     free = np.full(nx * ny, 1 if fast else 0, dtype=np.uint8)
     rng = np.random.default_rng(5 + fast)
-    x, r, vx, vr, vt = _fill_can(10000, 0.0, 1.0, 1.0, rng)
+    n = 10000
+    x, r, vx, vr, vt = _fill_can(n, 0.0, 1.0, 1.0, rng)
     dt = 0.1 if fast else 1.5        # short steps: most flights take the fast path
     perp0, lz0 = np.hypot(vr, vt), r * vt
     speed0 = np.sqrt(vx * vx + perp0 ** 2)
-    for _ in range(40):
+    steps = 0
+    while stally[0, T_HITS] < 20 * n:
         m, lost, key = _move(x, r, vx, vr, vt, dt, np.zeros((0, 7)), pieces, piece_int, box,
-                             nx, ny, free)
-        assert m == len(x) and lost == 0 and np.all(key >= 0)
+                             nx, ny, free, stally=stally)
+        steps += 1
+        assert m == n and lost == 0 and np.all(key >= 0)
         assert np.all(r < 1.0) and np.all(r >= 0.0), r.max()
         assert np.all((x >= 0.0) & (x <= 1.0))
         np.testing.assert_allclose(np.sqrt(vx * vx + vr * vr + vt * vt), speed0, atol=1e-12)
         np.testing.assert_allclose(np.hypot(vr, vt), perp0, rtol=0, atol=1e-12)
         np.testing.assert_allclose(r * vt, lz0, rtol=0, atol=1e-9)   # NUDGE per hit
+    print(f"\nouter cylinder ({'fast path' if fast else 'full search'}): {steps} steps")
+    assert steps < 2000
 
 
 def test_radial_weights_unbiased_in_one_step():
@@ -323,7 +344,7 @@ def test_radial_weights_unbiased_in_one_step():
                                np.zeros((0, 2), dtype=np.int64), box, pieces, piece_int,
                                np.zeros((0, 4)), np.zeros((0, N_SURF_TALLY)),
                                np.zeros((0, N_FLUX_TALLY)), False, NUDGE, nx, ny, 1.0 / nx,
-                               1.0 / ny, 1, free, weights, cap)
+                               1.0 / ny, 1, free, weights, cap, np.zeros(ny))
         assert lost == 0
         # the flights themselves are those of the twin, duplicates are exact copies
         np.testing.assert_array_equal(arrays[1][:n], twin[1])
