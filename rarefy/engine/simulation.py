@@ -60,7 +60,7 @@ class Simulation:
         self.axi = g.axisymmetric
         self.cell_fnum = self.fnum * g.cell_weight
         self.lost_duplicates = 0
-        self.row_balance = np.zeros(g.ny)
+        self.row_balance = np.random.default_rng(self.seed + 1).random((2, g.ny))
         self.nsub = plan.subcells
         self.nkeys = g.ncell * self.nsub ** 2
         self.key_start = np.zeros(self.nkeys + 1, dtype=np.int64)

@@ -209,7 +209,7 @@ def _move(x, r, vx, vr, vt, dt, segs, pieces, piece_int, box, nx, ny, free, weig
                            pieces, piece_int, np.zeros((0, 4)), stally,
                            np.zeros((0, N_FLUX_TALLY)), sampling, NUDGE, nx, ny,
                            (box[1] - box[0]) / nx, (box[3] - box[2]) / ny, 1, free,
-                           row_weight, n, np.zeros(ny))
+                           row_weight, n, np.zeros((2, ny)))
     return m, lost, key
 
 
@@ -344,7 +344,8 @@ def test_radial_weights_unbiased_in_one_step():
                                np.zeros((0, 2), dtype=np.int64), box, pieces, piece_int,
                                np.zeros((0, 4)), np.zeros((0, N_SURF_TALLY)),
                                np.zeros((0, N_FLUX_TALLY)), False, NUDGE, nx, ny, 1.0 / nx,
-                               1.0 / ny, 1, free, weights, cap, np.zeros(ny))
+                               1.0 / ny, 1, free, weights, cap,
+                               np.random.default_rng(seed).random((2, ny)))
         assert lost == 0
         # the flights themselves are those of the twin, duplicates are exact copies
         np.testing.assert_array_equal(arrays[1][:n], twin[1])
