@@ -82,16 +82,21 @@ def _cross_planes(x, y, vx, vy, vz, t, planes, ftally, w):
             continue
         ex = planes[p, 2] - planes[p, 0]
         ey = planes[p, 3] - planes[p, 1]
-        c2 = vx * vx + vy * vy + vz * vz
         # right-hand normal (ey, -ex) is the positive direction
-        if vx * ey - vy * ex > 0.0:
-            ftally[p, F_N_POS] += w
-            ftally[p, F_C_POS] += np.sqrt(c2) * w
-            ftally[p, F_C2_POS] += c2 * w
-        else:
-            ftally[p, F_N_NEG] += w
-            ftally[p, F_C_NEG] += np.sqrt(c2) * w
-            ftally[p, F_C2_NEG] += c2 * w
+        tally_crossing(ftally, p, vx * ey - vy * ex > 0.0, vx * vx + vy * vy + vz * vz, w)
+
+
+@njit(inline="always", **JIT)
+def tally_crossing(ftally, p, positive, c2, w):
+    """Count one crossing of flux plane ``p`` by a molecule of squared speed ``c2``."""
+    if positive:
+        ftally[p, F_N_POS] += w
+        ftally[p, F_C_POS] += np.sqrt(c2) * w
+        ftally[p, F_C2_POS] += c2 * w
+    else:
+        ftally[p, F_N_NEG] += w
+        ftally[p, F_C_NEG] += np.sqrt(c2) * w
+        ftally[p, F_C2_NEG] += c2 * w
 
 
 @njit(**JIT)

@@ -32,8 +32,9 @@ from rarefy.kernels.config import (
     BND_ABSORB, BND_PERIODIC, JIT, P_ACC, P_END, P_SIGMA, P_START, P_VEL, SIDE_XMAX,
     SIDE_XMIN, SIDE_YMAX, W_ACC, W_SIGMA, W_VEL, W_X0, W_X1, W_Y0, W_Y1,
 )
-from rarefy.kernels.move import MAX_EVENTS, _facet_of, _tally_surface, cell_key, reflect
-from rarefy.kernels.config import F_C2_NEG, F_C2_POS, F_C_NEG, F_C_POS, F_N_NEG, F_N_POS
+from rarefy.kernels.move import (
+    MAX_EVENTS, _facet_of, _tally_surface, cell_key, reflect, tally_crossing,
+)
 
 
 @njit(inline="always", **JIT)
@@ -110,15 +111,7 @@ def _cross_planes_axi(px, pr, ux, ur, ut, t, planes, ftally, w):
             _, vr, vt = rotate_to(pr, ur, ut, tc)
             ex = planes[p, 2] - planes[p, 0]
             er = planes[p, 3] - planes[p, 1]
-            c2 = ux * ux + ur * ur + ut * ut
-            if ux * er - vr * ex > 0.0:
-                ftally[p, F_N_POS] += w
-                ftally[p, F_C_POS] += np.sqrt(c2) * w
-                ftally[p, F_C2_POS] += c2 * w
-            else:
-                ftally[p, F_N_NEG] += w
-                ftally[p, F_C_NEG] += np.sqrt(c2) * w
-                ftally[p, F_C2_NEG] += c2 * w
+            tally_crossing(ftally, p, ux * er - vr * ex > 0.0, ux * ux + ur * ur + ut * ut, w)
 
 
 @njit(inline="always", **JIT)

@@ -29,8 +29,9 @@ def _run(text, tmp_path, overrides, seed=11):
     return load_report(tmp_path)
 
 
-def _check(value, err, ref, rel_tol):
+def _check(value, err, ref, rel_tol, label=""):
     dev = value - ref
+    print(f"{label}: {value:.6g} +/- {err:.2g}, reference {ref:.6g} ({dev / ref:+.2%})")
     assert abs(dev) <= rel_tol * abs(ref), (value, err, ref)
     assert abs(dev) <= 3.0 * err, (value, err, ref)
     assert err < rel_tol * abs(ref) / 2.0, "run too short for the check to be able to fail"
@@ -55,8 +56,9 @@ def test_slit_flow_equals_effusion(slit_report):
     cbar = math.sqrt(8 * K_B * T / (math.pi * m))
     ref = 1e-3 * 1.0 * n * m * cbar / 4.0
     assert fp["free_molecular_mass_flow_kg_s"] == pytest.approx(ref, rel=1e-12)
-    _check(fp["mass_flow_kg_s"], fp["mass_flow_stderr_kg_s"], ref, 0.01)
-    _check(fp["transmission_probability"], fp["transmission_probability_stderr"], 1.0, 0.01)
+    _check(fp["mass_flow_kg_s"], fp["mass_flow_stderr_kg_s"], ref, 0.01, "slit mass flow")
+    _check(fp["transmission_probability"], fp["transmission_probability_stderr"], 1.0, 0.01,
+           "slit transmission")
 
 
 def test_slit_crossing_speed_and_energy(slit_report):
@@ -66,9 +68,9 @@ def test_slit_crossing_speed_and_energy(slit_report):
     fp = slit_report["flux_planes"]["throat"]
     m = get_species("Ar").mass_kg
     _check(fp["crossing_mean_speed_m_s"], fp["crossing_mean_speed_stderr_m_s"],
-           math.sqrt(9 * math.pi * K_B * T / (8 * m)), 0.01)
+           math.sqrt(9 * math.pi * K_B * T / (8 * m)), 0.01, "slit crossing mean speed")
     _check(fp["crossing_mean_energy_j"], fp["crossing_mean_energy_stderr_j"],
-           2 * K_B * T, 0.01)
+           2 * K_B * T, 0.01, "slit crossing mean energy")
 
 
 @pytest.mark.parametrize("l_over_h, w_ref, steps", [
@@ -89,4 +91,5 @@ def test_channel_transmission_probability(tmp_path, l_over_h, w_ref, steps):
         "resolution.time_step": "1.2e-6 s", "run.settle_steps": 300,
         "run.sample_steps": steps, "run.batches": 20})
     fp = rep["flux_planes"]["throat"]
-    _check(fp["transmission_probability"], fp["transmission_probability_stderr"], w_ref, 0.01)
+    _check(fp["transmission_probability"], fp["transmission_probability_stderr"], w_ref, 0.01,
+           f"channel L/H = {l_over_h} transmission")
