@@ -111,14 +111,14 @@ class Simulation:
                 per_step = flux * area * self.dt / (self.fnum * g.row_weight[-1])
                 rows.append((head[0], b.start, b.end, *head[1:], 0.0, per_step))
             else:  # end disk: one row per radial row of cells, each with its weight
-                for j in range(g.ny):
-                    a = max(b.start, j * g.dy)
-                    c = min(b.end, (j + 1) * g.dy)
-                    if c <= a:
-                        continue
-                    area = math.pi * (c * c - a * a)
-                    per_step = flux * area * self.dt / (self.fnum * g.row_weight[j])
-                    rows.append((head[0], a, c, *head[1:], 1.0, per_step))
+                edges = np.arange(g.ny + 1) * g.dy
+                a = np.maximum(b.start, edges[:-1])
+                c = np.minimum(b.end, edges[1:])
+                keep = c > a
+                per_step = (flux * math.pi * (c * c - a * a) * self.dt
+                            / (self.fnum * g.row_weight))[keep]
+                rows += [(head[0], lo, hi, *head[1:], 1.0, rate)
+                         for lo, hi, rate in zip(a[keep], c[keep], per_step)]
         return np.array(rows, dtype=np.float64).reshape(-1, N_INFLOW_COLS)
 
     def add_particles(self, x, y, vx, vy, vz) -> None:
