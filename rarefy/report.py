@@ -54,7 +54,10 @@ def build_report(r: ResultData) -> dict:
         "diagnostics": diagnostics(r),
         "flux_planes": planes,
         "surfaces": surface_results(r),
-        "plan_warnings": p.get("warnings", []),
+        "plan_warnings": p.get("warnings", []) + (
+            [f"{r.attrs['lost_duplicates']} radial-weighting duplicates did not fit in "
+             "memory and were dropped: the density near the axis is biased low"]
+            if r.attrs.get("lost_duplicates", 0) else []),
     }
 
 
