@@ -15,7 +15,8 @@ DSMC resolution rules (Bird 1994 ch. 11; common practice) then fix
 * particle weight F_N = n_ref V_cell / N_target (N_target particles per cell);
 * steps to a steady state from four wall-to-wall transits at the most probable
   speed plus ten collision times (at most as long as the transits: in free-molecular
-  flow collisions do not set the pace), and twice that many sampling steps.
+  flow collisions do not set the pace), or, if longer, three Knudsen-diffusion times
+  of the longest tube or channel, and twice that many sampling steps.
 
 Every choice can be overridden in the case file ([resolution], [run]).
 """
@@ -154,6 +155,20 @@ def _grid(extent: float, target: float) -> tuple[int, float]:
     return n, extent / n
 
 
+def _fill_time(case: Case, cbar: float) -> float:
+    """Three Knudsen-diffusion times L^2 / D, D = (2/3) a cbar, of the longest tube or
+    channel a flux plane names (a: radius or half-gap; Knudsen's diffusion coefficient
+    of a tube, the slowest way a long duct fills): a duct must fill before sampling."""
+    times = [0.0]
+    for fp in case.flux_planes:
+        if fp.opening in ("tube", "channel") and fp.opening_length_m > 0.0:
+            a = math.dist(fp.start, fp.end)
+            if fp.opening == "channel" and not fp.mirrored:
+                a *= 0.5
+            times.append(3.0 * fp.opening_length_m ** 2 / (2.0 / 3.0 * a * cbar))
+    return max(times)
+
+
 def make_plan(case: Case) -> Plan:
     """Resolve the plan of ``case`` (overrides in the case win over automatic choices)."""
     sp = get_species(case.gas.species)
@@ -210,7 +225,8 @@ def make_plan(case: Case) -> Plan:
         chosen["settle_steps"] = "case"
     else:
         transit = 4.0 * (lx + ly) / vmp
-        settle = math.ceil((transit + min(10.0 * tau, transit)) / dt)
+        settle = math.ceil(max(transit + min(10.0 * tau, transit), _fill_time(case, cbar))
+                           / dt)
         chosen["settle_steps"] = "auto"
     if run.sample_steps is not None:
         sample = run.sample_steps
