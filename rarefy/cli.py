@@ -18,21 +18,13 @@ import click
 
 from rarefy import __version__
 from rarefy.case import CaseError, load_case
+from rarefy.cli_errors import InputError
 from rarefy.units import UnitError, parse_quantity
 
 log = logging.getLogger("rarefy")
 
 DEMO_CASE = dict(gas="Ar", temperature_k=300.0, upstream_pressure_pa=16.0,
                  downstream_pressure_pa=0.0, width_m=1e-3, thickness_m=0.0)
-
-
-class InputError(click.ClickException):
-    """Bad input: one clear line, exit status 2."""
-
-    exit_code = 2
-
-    def show(self, file=None):
-        click.echo(f"error: {self.format_message()}", err=True)
 
 
 def _settings(pairs: tuple[str, ...]) -> dict:

@@ -1,7 +1,7 @@
 """`rarefy estimate`: analytic free-molecular and continuum limits, no simulation.
 
 Register with ``cli.add_command(estimate)``. Every input error is one line, exit 2
-(:class:`rarefy.cli.InputError`, imported when needed so that ``rarefy.cli`` may import
+(:class:`rarefy.cli_errors.InputError`, imported when needed so that ``rarefy.cli`` may import
 this module at any point).
 """
 
@@ -23,7 +23,7 @@ UNIT_SYSTEMS = ("si", "vacuum")
 
 
 def _fail(message: str):
-    from rarefy.cli import InputError
+    from rarefy.cli_errors import InputError
 
     raise InputError(message)
 

@@ -8,7 +8,7 @@ from pathlib import Path
 import click
 
 from rarefy.case import CaseError
-from rarefy.cli import InputError
+from rarefy.cli_errors import InputError
 
 __all__ = ["sweep", "format_rows"]
 

@@ -159,17 +159,16 @@ def _run_point(case_path, point, rundir, plane, quiet) -> dict:
             import logging
             logging.basicConfig(level=logging.INFO, stream=sys.stderr,
                                 format=f"[point-{point['index']:02d}] %(message)s")
-        from rarefy.cli import execute
-        from rarefy.io.result import read_result
-        from rarefy.post.results import flux_plane_results
+        from rarefy.cli import _write_json, execute
+        from rarefy.report import load_report
 
         case = load_case(case_path, point["overrides"])
         execute(case, Path(rundir), point["seed"], quiet)
-        r = read_result(rundir)
-        # the planes from this point's case: the stored case text lacks the overrides
-        fp = flux_plane_results(r, case)[plane]
+        rep = load_report(rundir)   # applies the overrides stored in the result
+        _write_json(Path(rundir) / "summary.json", rep)
+        fp = rep["flux_planes"][plane]
         an = fp["analytic"]
-        row.update({k: r.plan[k] for k in ("gas", "rarefaction_parameter", "knudsen_number")})
+        row.update({k: rep[k] for k in ("gas", "rarefaction_parameter", "knudsen_number")})
         row.update({k: fp[k] for k in COLUMNS[7:11]})
         row.update(upstream_pressure_pa=fp["upstream_pressure_pa"],
                    free_molecular_transmission=an.get("free_molecular_transmission", 1.0),
