@@ -99,6 +99,28 @@ def tally_crossing(ftally, p, positive, c2, w):
         ftally[p, F_C2_NEG] += c2 * w
 
 
+@njit(inline="always", **JIT)
+def find_piece(pieces, piece_int, side, coord):
+    """Index of the boundary piece of ``side`` that holds ``coord``; -1 if none."""
+    for q in range(pieces.shape[0]):
+        if piece_int[q, 0] == side and pieces[q, P_START] <= coord <= pieces[q, P_END]:
+            return q
+    return -1
+
+
+@njit(inline="always", **JIT)
+def side_frame(side):
+    """Inward unit normal and wall tangent (nx, ny, tx, ty) of a domain side; the
+    tangent is +y on the x-sides and +x on the y-sides."""
+    if side == SIDE_XMIN:
+        return 1.0, 0.0, 0.0, 1.0
+    if side == SIDE_XMAX:
+        return -1.0, 0.0, 0.0, 1.0
+    if side == SIDE_YMIN:
+        return 0.0, 1.0, 1.0, 0.0
+    return 0.0, -1.0, 1.0, 0.0
+
+
 @njit(**JIT)
 def _facet_of(first, nbins, frac):
     b = int(frac * nbins)
@@ -207,11 +229,7 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
             hy = box[2] if side == SIDE_YMIN else box[3]
             hx = min(max(hx, box[0]), box[1])
             coord = hx
-        j = -1
-        for q in range(pieces.shape[0]):
-            if piece_int[q, 0] == side and coord >= pieces[q, P_START] and coord <= pieces[q, P_END]:
-                j = q
-                break
+        j = find_piece(pieces, piece_int, side, coord)
         t -= t_box
         last = -1
         if j < 0 or piece_int[j, 1] == BND_ABSORB:
@@ -231,14 +249,7 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
             y[i] = hy
             continue
         # reflecting side: inward normal, tangent along +x (y-sides) or +y (x-sides)
-        if side == SIDE_XMIN:
-            nx, ny, tx, ty = 1.0, 0.0, 0.0, 1.0
-        elif side == SIDE_XMAX:
-            nx, ny, tx, ty = -1.0, 0.0, 0.0, 1.0
-        elif side == SIDE_YMIN:
-            nx, ny, tx, ty = 0.0, 1.0, 1.0, 0.0
-        else:
-            nx, ny, tx, ty = 0.0, -1.0, 1.0, 0.0
+        nx, ny, tx, ty = side_frame(side)
         w0x, w0y, w0z = ux, uy, vz[i]
         nvx, nvy, nvz = reflect(w0x, w0y, w0z, nx, ny, pieces[j, P_SIGMA], pieces[j, P_ACC],
                                 pieces[j, P_VEL], tx, ty)

@@ -33,7 +33,8 @@ from rarefy.kernels.config import (
     SIDE_XMIN, SIDE_YMAX, W_ACC, W_SIGMA, W_VEL, W_X0, W_X1, W_Y0, W_Y1,
 )
 from rarefy.kernels.move import (
-    MAX_EVENTS, _facet_of, _tally_surface, cell_key, reflect, tally_crossing,
+    MAX_EVENTS, _facet_of, _tally_surface, cell_key, find_piece, reflect, side_frame,
+    tally_crossing,
 )
 
 
@@ -195,11 +196,7 @@ def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int
         else:
             hr = box[3]
             coord = min(max(hx, box[0]), box[1])
-        j = -1
-        for q in range(pieces.shape[0]):
-            if piece_int[q, 0] == side and pieces[q, P_START] <= coord <= pieces[q, P_END]:
-                j = q
-                break
+        j = find_piece(pieces, piece_int, side, coord)
         if j < 0 or piece_int[j, 1] == BND_ABSORB:
             x[i] = hx
             r[i] = hr
@@ -210,12 +207,7 @@ def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int
             vr[i] = wr
             vt[i] = wt
             continue
-        if side == SIDE_XMIN:
-            nx, nr, tx, tr_ = 1.0, 0.0, 0.0, 1.0
-        elif side == SIDE_XMAX:
-            nx, nr, tx, tr_ = -1.0, 0.0, 0.0, 1.0
-        else:
-            nx, nr, tx, tr_ = 0.0, -1.0, 1.0, 0.0
+        nx, nr, tx, tr_ = side_frame(side)   # the axis (ymin) is never met
         nvx, nvr, nvt = reflect(ux, wr, wt, nx, nr, pieces[j, P_SIGMA], pieces[j, P_ACC],
                                 pieces[j, P_VEL], tx, tr_)
         if sampling and piece_int[j, 3] > 0:
