@@ -21,6 +21,15 @@ from rarefy.theory.effusion import (
     number_flux,
     orifice_axis_density,
 )
+from rarefy.theory.maxwell import (
+    characteristic_speeds,
+    component_pdf,
+    drifting_speed_pdf,
+    flux_speed_cdf,
+    flux_speed_pdf,
+    speed_cdf,
+    speed_pdf,
+)
 from rarefy.theory.transmission import (
     channel_transmission,
     channel_transmission_direct,
@@ -33,7 +42,12 @@ __all__ = [
     "aperture_conductance",
     "channel_transmission",
     "channel_transmission_direct",
+    "characteristic_speeds",
     "choked_mass_flux",
+    "component_pdf",
+    "drifting_speed_pdf",
+    "flux_speed_cdf",
+    "flux_speed_pdf",
     "flux_weighted_mean_energy",
     "flux_weighted_mean_speed",
     "free_molecular_couette_shear",
@@ -45,6 +59,8 @@ __all__ = [
     "mean_speed",
     "number_flux",
     "orifice_axis_density",
+    "speed_cdf",
+    "speed_pdf",
     "tube_transmission",
     "tube_transmission_direct",
     "tube_transmission_long",
