@@ -27,6 +27,8 @@ __all__ = [
     "Boundary",
     "Wall",
     "FluxPlane",
+    "Histograms",
+    "Probe",
     "InitialState",
     "Resolution",
     "RunControl",
@@ -161,6 +163,28 @@ class FluxPlane:
 
 
 @dataclass(frozen=True)
+class Probe:
+    """A sampling volume for velocity distributions: the rectangle ``x`` x ``y`` of the
+    (x, y) plane (planar: times the depth; axisymmetric: y is the radius, so the probe
+    is a ring, or a disk-shaped cylinder on the axis when ``y[0] = 0``). ``direction``
+    (``"x"`` or ``"y"``) is the flow direction for parallel / perpendicular temperatures."""
+
+    name: str
+    x: tuple[float, float]
+    y: tuple[float, float]
+    direction: str = "x"
+
+
+@dataclass(frozen=True)
+class Histograms:
+    """Speed histograms of probes and flux planes: ``bins`` bins on [0, ``speed_max_m_s``]
+    (velocity components on [-speed_max, speed_max]); ``None``: chosen by the planner."""
+
+    speed_max_m_s: float | None = None
+    bins: int | None = None
+
+
+@dataclass(frozen=True)
 class InitialState:
     """Gas filling the domain at the start (``pressure_pa == 0``: empty)."""
 
@@ -211,6 +235,8 @@ class Case:
     source_path: str
     source_text: str
     overrides: tuple[tuple[str, str], ...] = ()
+    probes: tuple[Probe, ...] = ()
+    histograms: Histograms = Histograms()
 
     def side(self, side: str) -> tuple[Boundary, ...]:
         """The boundary pieces of one side, ordered along it."""

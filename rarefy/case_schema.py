@@ -15,8 +15,8 @@ import sys
 from typing import Any, NoReturn
 
 from rarefy.case import (
-    SIDES, Boundary, CaseError, Domain, FluxPlane, GasSpec, InitialState, Resolution,
-    RunControl, Surface, Wall,
+    SIDES, Boundary, CaseError, Domain, FluxPlane, GasSpec, Histograms, InitialState, Probe,
+    Resolution, RunControl, Surface, Wall,
 )
 from rarefy.units import UNITS, UnitError, parse_quantity
 
@@ -27,14 +27,15 @@ else:  # pragma: no cover
 
 __all__ = ["build_case", "apply_override", "Checker"]
 
-TOP_KEYS = ("title", "gas", "domain", "boundaries", "walls", "flux_planes", "initial",
-            "resolution", "run")
+TOP_KEYS = ("title", "gas", "domain", "boundaries", "walls", "flux_planes", "probes",
+            "histograms", "initial", "resolution", "run")
 SECTION_KEYS = {
     "gas": ("species", "model"),
     "domain": ("geometry", "x", "y", "depth", "characteristic_length"),
     "initial": ("pressure", "temperature", "velocity"),
     "resolution": ("cell_size", "time_step", "particles_per_cell", "particle_weight", "subcells"),
     "run": ("settle_steps", "sample_steps", "batches", "seed"),
+    "histograms": ("speed_max", "bins"),
 }
 BOUNDARY_KEYS = {
     "reservoir": ("kind", "from", "to", "pressure", "temperature", "velocity"),
@@ -49,7 +50,9 @@ ALL_BOUNDARY_KEYS = ("kind", "from", "to", "pressure", "temperature", "velocity"
 ARRAY_KEYS = {
     "walls": ("name", "points", "solid", "surface", "temperature", "accommodation", "velocity"),
     "flux_planes": ("name", "points", "mirrored", "opening", "opening_length"),
+    "probes": ("name", "x", "y", "direction"),
 }
+MAX_HISTOGRAM_BINS = 5000
 MODELS = ("hs", "vhs", "vss")
 GEOMETRIES = ("planar", "axisymmetric")
 OPENINGS = ("orifice", "tube", "slit", "channel")
@@ -434,6 +437,49 @@ def _flux_planes(chk: Checker, value: Any, domain: Domain,
     return tuple(planes)
 
 
+def _span(chk: Checker, value: Any, key: str, lo: float, hi: float, what: str) -> tuple:
+    if not isinstance(value, list) or len(value) != 2:
+        chk.fail(key, f'must be [min, max] with lengths, e.g. ["1 mm", "2 mm"]; allowed units: '
+                      f"{_units('length')}; got {value!r}")
+    a, b = (chk.quantity(v, key, "length") for v in value)
+    tol = 1e-9 * (hi - lo)
+    if not b > a:
+        chk.fail(key, f"max ({b:.6g} m) must be greater than min ({a:.6g} m)")
+    if a < lo - tol or b > hi + tol:
+        chk.fail(key, f"[{a:.6g}, {b:.6g}] m reaches outside the domain's {what} range "
+                      f"[{lo:.6g}, {hi:.6g}] m")
+    return (max(a, lo), min(b, hi))
+
+
+def _probes(chk: Checker, value: Any, domain: Domain, names: dict) -> tuple[Probe, ...]:
+    probes, seen = [], dict(names)
+    for i, tbl in enumerate(_array(chk, value, "probes")):
+        key = f"probes[{i}]"
+        chk.table(tbl, key, ARRAY_KEYS["probes"])
+        name = _unique_name(chk, tbl, key, seen)
+        hint = 'give [min, max], e.g. ["1 mm", "2 mm"]'
+        xs = _span(chk, chk.require(tbl, key, "x", hint), f"{key}.x", domain.xmin,
+                   domain.xmax, "x")
+        ys = _span(chk, chk.require(tbl, key, "y", hint), f"{key}.y", domain.ymin, domain.ymax,
+                   "radius" if domain.axisymmetric else "y")
+        direction = chk.choice(tbl.get("direction", "x"), f"{key}.direction", ("x", "y"))
+        probes.append(Probe(name, xs, ys, direction))
+    return tuple(probes)
+
+
+def _histograms(chk: Checker, tbl: dict) -> Histograms:
+    vmax = tbl.get("speed_max")
+    if vmax is not None:
+        vmax = chk.quantity(vmax, "histograms.speed_max", "velocity", 0.0)
+    bins = tbl.get("bins")
+    if bins is not None:
+        bins = chk.integer(bins, "histograms.bins", 10)
+        if bins > MAX_HISTOGRAM_BINS:
+            chk.fail("histograms.bins", f"must be an integer from 10 to {MAX_HISTOGRAM_BINS}; "
+                                        f"got {bins}")
+    return Histograms(vmax, bins)
+
+
 def build_case(raw: dict, path: str) -> dict[str, Any]:
     """Validate a raw case dictionary.
 
@@ -467,6 +513,10 @@ def build_case(raw: dict, path: str) -> dict[str, Any]:
     boundaries = _boundaries(chk, raw["boundaries"], domain)
     walls = _walls(chk, raw.get("walls", []), domain)
     planes = _flux_planes(chk, raw.get("flux_planes", []), domain, boundaries)
+    probes = _probes(chk, raw.get("probes", []), domain,
+                     {fp.name: "a flux plane" for fp in planes})
+    histograms = _histograms(chk, chk.table(raw.get("histograms", {}), "histograms",
+                                            SECTION_KEYS["histograms"]))
     reservoirs = [b for b in boundaries if b.kind == "reservoir"]
     default_t = reservoirs[0].temperature_k if reservoirs else 300.0
     initial = _initial(chk, chk.table(raw.get("initial", {}), "initial",
@@ -478,7 +528,8 @@ def build_case(raw: dict, path: str) -> dict[str, Any]:
         chk.fail("boundaries", "no source of gas: give at least one boundary with "
                                'kind = "reservoir", or [initial] pressure > 0')
     return dict(title=title, gas=gas, domain=domain, boundaries=boundaries, walls=walls,
-                flux_planes=planes, initial=initial, resolution=resolution, run=run)
+                flux_planes=planes, initial=initial, resolution=resolution, run=run,
+                probes=probes, histograms=histograms)
 
 
 # ----------------------------------------------------------------------------- overrides

@@ -311,16 +311,32 @@ def _nan_to_none(o):
 # ------------------------------------------------------------------------------------ plot
 @cli.command()
 @click.argument("rundir", type=click.Path())
-def plot(rundir):
-    """Write PNG figures (field maps, profiles) into RUNDIR/plots."""
+@click.option("--probe", default=None, metavar="NAME",
+              help="Only the histograms of this probe (with fits and theory).")
+def plot(rundir, probe):
+    """Write PNG figures (field maps, profiles, probe histograms, speed distributions by
+    position) into RUNDIR/plots."""
     from rarefy.io.result import read_result
-    from rarefy.plots.fields import plot_all
 
     d = _result_dir(rundir)
     r = read_result(d)
+    if probe is not None and probe not in r.probe_names:
+        raise InputError(f"--probe {probe!r}: the result has no probe of that name; allowed: "
+                         + (", ".join(r.probe_names) or "(none defined in the case)"))
     outdir = (d if d.is_dir() else d.parent) / "plots"
-    for p in plot_all(r, outdir):
+    for p in _plot_all(r, outdir, probe):
         click.echo(f"wrote {p}")
+
+
+def _plot_all(r, outdir: Path, probe: str | None = None) -> list:
+    from rarefy.plots.fields import plot_all
+    from rarefy.plots.probes import plot_probe_all
+    from rarefy.post.probes import probe_results
+
+    paths = [] if probe else plot_all(r, outdir)
+    if r.probe_names or (len(r.plane_names) >= 2 and not probe):
+        paths += plot_probe_all(r, probe_results(r), outdir, probe)
+    return paths
 
 
 # ----------------------------------------------------------------------------------- gases
@@ -347,7 +363,6 @@ def demo(output, seed, quiet):
     (transitional flow; an invented scenario), then report and plot it."""
     from rarefy.case import parse_case
     from rarefy.io.result import read_result
-    from rarefy.plots.fields import plot_all
     from rarefy.report import format_report, load_report
     from rarefy.templates import slit_case
 
@@ -360,14 +375,16 @@ def demo(output, seed, quiet):
     rep = load_report(rundir)
     _write_json(rundir / "summary.json", rep)
     click.echo(format_report(rep))
-    for p in plot_all(read_result(rundir), rundir / "plots"):
+    for p in _plot_all(read_result(rundir), rundir / "plots"):
         click.echo(f"wrote {p}")
 
 
 def _register() -> None:
     from rarefy.cli_estimate import estimate
+    from rarefy.cli_speeds import speeds
     from rarefy.cli_sweep import sweep
     cli.add_command(estimate)
+    cli.add_command(speeds)
     cli.add_command(sweep)
 
 

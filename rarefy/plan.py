@@ -34,6 +34,8 @@ DEFAULT_PARTICLES_PER_CELL = 20.0
 DEFAULT_SUBCELLS = 2
 DEFAULT_BATCHES = 20
 MAX_CELLS_AUTO = 250_000
+DEFAULT_HISTOGRAM_BINS = 400
+HISTOGRAM_SPEED_SPAN = 4.0   # v_mp of the hottest gas; beyond it lie ~2e-6 of the crossings
 
 # limits of usual practice, used for warnings (Bird 1994 ch. 11; common practice)
 LIMIT_CELL_OVER_MFP = 1.0 / 3.0
@@ -73,6 +75,8 @@ class Plan:
     expected_particles: float
     rot_dof: int = 0
     chosen: dict = field(default_factory=dict)  # key -> "case" or "auto"
+    histogram_speed_max_m_s: float = 0.0
+    histogram_bins: int = DEFAULT_HISTOGRAM_BINS
 
     @property
     def ncell(self) -> int:
@@ -169,6 +173,29 @@ def _fill_time(case: Case, cbar: float) -> float:
     return max(times)
 
 
+def histogram_speed_max(case: Case, mass_kg: float) -> float:
+    """Upper end (m/s) of the speed histograms: 4 most probable speeds at the hottest
+    temperature the case names plus the largest speed it gives a wall or reservoir.
+    A Maxwellian puts (1 + 16) exp(-16) = 2e-6 of its flux beyond 4 v_mp; an expansion
+    reaches at most sqrt(5kT0/m) = 1.6 v_mp (monatomic), so cold jets fit too."""
+    if case.histograms.speed_max_m_s:
+        return case.histograms.speed_max_m_s
+    temps = [case.initial.temperature_k]
+    speeds = [math.hypot(*case.initial.velocity_m_s)]
+    for b in case.boundaries:
+        if b.temperature_k:
+            temps.append(b.temperature_k)
+        speeds.append(math.hypot(*b.velocity_m_s) if b.velocity_m_s else 0.0)
+        if b.surface is not None:
+            temps.append(b.surface.temperature_k or 0.0)
+            speeds.append(abs(b.surface.velocity_m_s))
+    for w in case.walls:
+        temps.append(w.surface.temperature_k or 0.0)
+        speeds.append(abs(w.surface.velocity_m_s))
+    vmp = kinetic.most_probable_speed(mass_kg, max(temps))
+    return HISTOGRAM_SPEED_SPAN * vmp + max(speeds)
+
+
 def make_plan(case: Case) -> Plan:
     """Resolve the plan of ``case`` (overrides in the case win over automatic choices)."""
     sp = get_species(case.gas.species)
@@ -249,7 +276,8 @@ def make_plan(case: Case) -> Plan:
         particle_weight=fnum, particles_per_cell=ppc, settle_steps=settle,
         sample_steps=sample, batches=batches,
         expected_particles=ppc * nx * ny, rot_dof=sp.rot_dof,
-        chosen=chosen,
+        chosen=chosen, histogram_speed_max_m_s=histogram_speed_max(case, m),
+        histogram_bins=case.histograms.bins or DEFAULT_HISTOGRAM_BINS,
     )
 
 

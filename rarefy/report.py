@@ -4,8 +4,11 @@ Stable top-level keys: ``gas``, ``knudsen_number``, ``rarefaction_parameter``,
 ``diagnostics`` (``collision_frequency_hz``, ``mean_collision_separation_over_mfp``,
 ``particles_per_cell``) and ``flux_planes`` (per plane ``mass_flow_kg_s``,
 ``mass_flow_stderr_kg_s``, ``free_molecular_mass_flow_kg_s``,
-``transmission_probability``, ``transmission_probability_stderr``); more keys
-may be added, none removed.
+``transmission_probability``, ``transmission_probability_stderr``) and ``probes``
+(per probe ``number_density_m3``, ``mean_speed_m_s``, ``temperature_k``,
+``speed_ratio`` and the rest of :func:`rarefy.post.probes.probe_results`, each sampled
+value with its ``_stderr`` twin, the unit staying last); more keys may be added, none
+removed.
 """
 
 from __future__ import annotations
@@ -16,6 +19,7 @@ from pathlib import Path
 
 from rarefy.case import parse_case
 from rarefy.io.result import ResultData, read_result
+from rarefy.post.probes import probe_results
 from rarefy.post.results import diagnostics, flux_plane_results, surface_results
 
 __all__ = ["build_report", "format_report", "load_report"]
@@ -54,6 +58,7 @@ def build_report(r: ResultData) -> dict:
         "diagnostics": diagnostics(r),
         "flux_planes": planes,
         "surfaces": surface_results(r),
+        "probes": probe_results(r),
         "plan_warnings": p.get("warnings", []) + (
             [f"{r.attrs['lost_duplicates']} radial-weighting duplicates did not fit in "
              "memory and were dropped: the density near the axis is biased low"]
@@ -140,6 +145,46 @@ def format_report(rep: dict) -> str:
                 f"  {name:<16} p {_pm(s['pressure_pa'], s['pressure_stderr_pa'], 'Pa')}; "
                 f"shear {_pm(s['shear_stress_pa'], s['shear_stress_stderr_pa'], 'Pa')}; "
                 f"heat flux {_pm(s['heat_flux_w_m2'], s['heat_flux_stderr_w_m2'], 'W/m^2')}")
+    for name, pr in rep.get("probes", {}).items():
+        fit = pr["speed_fit"]
+        e = pr["direction"]
+        lines += [
+            "",
+            f"Probe '{name}' (volume {pr['volume_m3']:.4g} m^3, flow direction {e})",
+            "  number density           "
+            + _pm(pr["number_density_m3"], pr["number_density_stderr_m3"], "m^-3"),
+            "  drift velocity (x, y, z) " + ", ".join(
+                _pm(pr[f"velocity_{c}_m_s"], pr[f"velocity_{c}_stderr_m_s"], "m/s", ".4g")
+                for c in "xyz"),
+            "  temperature              "
+            + _pm(pr["temperature_k"], pr["temperature_stderr_k"], "K")
+            + f"; parallel ({e}) "
+            + _pm(pr["temperature_parallel_k"], pr["temperature_parallel_stderr_k"], "K")
+            + "; perpendicular "
+            + _pm(pr["temperature_perpendicular_k"], pr["temperature_perpendicular_stderr_k"],
+                  "K"),
+            "  speed ratio              " + _pm(pr["speed_ratio"], pr["speed_ratio_stderr"], "")
+            + " (drift / sqrt(2 k T_par / m))",
+            "  speeds: most probable    "
+            + _pm(pr["most_probable_speed_m_s"], pr["most_probable_speed_stderr_m_s"], "m/s")
+            + "; mean " + _pm(pr["mean_speed_m_s"], pr["mean_speed_stderr_m_s"], "m/s")
+            + "; rms " + _pm(pr["rms_speed_m_s"], pr["rms_speed_stderr_m_s"], "m/s"),
+            "  drifting Maxwellian fit  T "
+            + _pm(fit["temperature_k"], fit["temperature_stderr_k"], "K")
+            + f" at the drift speed {fit['drift_m_s']:.4g} m/s; chi^2/dof "
+            f"{fit['reduced_chi_square']:.3g}, KS distance {fit['ks_distance']:.3g} "
+            f"(p = {fit['ks_p_value']:.3g}, {fit['effective_samples']:.3g} effective samples)",
+            "  per-axis Gaussian fits   " + "; ".join(
+                f"T_{c} " + _pm(f["temperature_k"], f["temperature_stderr_k"], "K")
+                for c, f in pr["component_fits"].items()),
+        ]
+        an = pr["analytic"]
+        lines.append(f"  source gas at rest ({an['temperature_k']:.4g} K): most probable "
+                     f"{an['most_probable_speed_m_s']:.4g} m/s, mean "
+                     f"{an['mean_speed_m_s']:.4g} m/s, rms {an['rms_speed_m_s']:.4g} m/s")
+        if pr["overflow_fraction"] > 1e-4:
+            lines.append(f"  note: {pr['overflow_fraction']:.2%} of the molecules were faster "
+                         "than the histogram range; raise [histograms] speed_max")
     if rep["plan_warnings"]:
         lines += ["", "Resolution warnings"] + [f"  - {w}" for w in rep["plan_warnings"]]
     return "\n".join(lines)

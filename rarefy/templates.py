@@ -57,6 +57,9 @@ def _check_positive(**values: float) -> None:
             raise ValueError(f"{name} must be > 0; got {value!r}")
 
 
+PROBE_DISTANCES = (1, 2, 4)   # on-axis probes, in radii (half-widths) beyond the exit
+
+
 def _opening_case(kind: str, gas: str, t: float, p_up: float, p_down: float, gap: float,
                   length: float, what: str, axisymmetric: bool = False) -> str:
     """Shared layout of all openings: width (diameter) ``gap`` at 0 <= x <= length."""
@@ -149,6 +152,16 @@ def _opening_case(kind: str, gas: str, t: float, p_up: float, p_down: float, gap
         f'opening = "{opening}"  # for the analytic estimates',
         f'opening_length = "{length_text(length)}"',
     ]
+    unit = ("radius", "radii") if axisymmetric else ("half-width", "half-widths")
+    for k in PROBE_DISTANCES:
+        xc = length + k * half
+        lines += [
+            f"\n[[probes]]  # velocity distribution on the axis, {k} "
+            f"{unit[k > 1]} beyond the exit",
+            f'name = "axis_{k}a"',
+            f'x = ["{length_text(xc - 0.25 * half)}", "{length_text(xc + 0.25 * half)}"]',
+            f'y = ["0 mm", "{length_text(0.5 * half)}"]',
+        ]
     if p_down > 0.0:
         lines += [
             "\n[initial]  # start filled at the downstream pressure",

@@ -20,12 +20,13 @@ from rarefy.gas import kinetic
 from rarefy.gas.species import get_species
 from rarefy.geometry.cutcell import mask_inside_solids
 from rarefy.geometry.planar import Geometry, build_geometry
+from rarefy.geometry.probes import build_probes
 from rarefy.kernels.collide import collide_cells
 from rarefy.kernels.index import counting_sort
 from rarefy.kernels.inject import N_INFLOW_COLS, inject, seed_generator
 from rarefy.kernels.move import compute_keys, move_all
 from rarefy.kernels.move_axi import move_all_axi
-from rarefy.kernels.sample import sample_cells
+from rarefy.kernels.sample import sample_cells, sample_probes
 from rarefy.plan import Plan
 from rarefy.post.fields import fields_from_moments
 from rarefy.sampling.accumulators import Accumulators
@@ -58,7 +59,8 @@ class Simulation:
         self.dt = plan.time_step_s
         self.fnum = plan.particle_weight
         self.axi = g.axisymmetric
-        self.cell_fnum = self.fnum * g.cell_weight
+        self.cell_weight = g.cell_weight
+        self.cell_fnum = self.fnum * self.cell_weight
         self.lost_duplicates = 0
         self.row_balance = np.random.default_rng(self.seed + 1).random((2, g.ny))
         self.nsub = plan.subcells
@@ -78,10 +80,17 @@ class Simulation:
         self.store = ParticleStore(int(1.5 * plan.expected_particles) + self.inflow_max)
         self.clock = Clock()
         steps_per_batch = max(1, plan.sample_steps // plan.batches)
+        self.probes = build_probes(case, g)
+        nbins = plan.histogram_bins
+        self.speed_max = plan.histogram_speed_max_m_s
         self.acc = Accumulators(g.ncell, len(g.facet_owner), len(g.plane_names), plan.batches,
-                                steps_per_batch)
+                                steps_per_batch, len(self.probes), nbins)
+        # flux-plane rows for the move kernels: end points, histogram bins per m/s, bins
+        self.plane_rows = np.hstack([
+            g.planes, np.full((len(g.planes), 1), nbins / self.speed_max),
+            np.full((len(g.planes), 1), float(nbins))])
         self._no_surf = np.zeros((0, 7))
-        self._no_flux = np.zeros((len(g.plane_names), 6))
+        self._no_flux = np.zeros(self.acc.flux.shape[1:])
         self._dummy_surf = np.zeros((len(g.facet_owner), 7))
         seed_generator(self.seed % (2 ** 32))
         self._fill_initial()
@@ -188,21 +197,20 @@ class Simulation:
             s = st.state
             st.n, lost = move_all_axi(
                 n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key, g.segs,
-                g.seg_tally, g.box, g.pieces, g.piece_int, g.planes, stally, ftally, sampling,
-                self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free, g.row_weight,
+                g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows, stally, ftally,
+                sampling, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free, g.row_weight,
                 st.capacity, self.row_balance)
             self.lost_duplicates += lost
         else:
             move_all(n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key,
-                     g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, g.planes, stally,
+                     g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows, stally,
                      ftally, sampling, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free)
         t2 = time.perf_counter()
         self._sort()
         s = st.state
         t3 = time.perf_counter()
         if sampling:  # half the sample before collisions (see rarefy.kernels.sample)
-            sample_cells(g.ncell, self.nsub, self.key_start, s[VX], s[VY], s[VZ],
-                         acc.cell_batch, 0.5)
+            self._sample(s, 0.5)
             t3b = time.perf_counter()
             ph["sample"] += t3b - t3
             t3 = t3b
@@ -212,8 +220,7 @@ class Simulation:
                       self.a_coef, self.exponent, self.model.alpha, self.coll_stats)
         t4 = time.perf_counter()
         if sampling:
-            sample_cells(g.ncell, self.nsub, self.key_start, s[VX], s[VY], s[VZ],
-                         acc.cell_batch, 0.5)
+            self._sample(s, 0.5)
             acc.collisions[acc.batch] += self.coll_stats
             acc.end_step(st.n, self._batch_fields)
         t5 = time.perf_counter()
@@ -222,6 +229,16 @@ class Simulation:
         self.clock.step += 1
         self.clock.time_s += self.dt
         self.clock.particle_steps += st.n
+
+    def _sample(self, s: np.ndarray, weight: float) -> None:
+        """Cell moments and probe histograms of the sorted particles, with ``weight``."""
+        g, acc, pr = self.geom, self.acc, self.probes
+        sample_cells(g.ncell, self.nsub, self.key_start, s[VX], s[VY], s[VZ], acc.cell_batch,
+                     weight)
+        if len(pr):
+            sample_probes(pr.box, pr.cells, pr.cell_start, self.nsub, self.key_start,
+                          self.cell_weight, s[X], s[Y], s[VX], s[VY], s[VZ], self.speed_max,
+                          acc.probe_mom[acc.batch], acc.probe_hist[acc.batch], weight)
 
     def _batch_fields(self, sums: np.ndarray, nsteps: int) -> dict:
         return fields_from_moments(sums, nsteps, self.geom.volume, self.mass, self.cell_fnum)

@@ -10,6 +10,8 @@ Layout (every dataset carries a ``units`` attribute):
 /fields/NAME      cell fields [y, x] (``NAME_stderr``: batch-means standard error)
 /surfaces/...     facet owner, centre, normal, area
 /flux_planes/...  names, end points, mirrored flags
+/probes/...       names, rectangles, gas volumes, flow directions; per-batch velocity
+                  sums and histograms in /raw (speed bin edges in /histograms)
 /raw/...          the accumulated sums (cell moments, per-batch surface, flux-plane
                   and collision tallies) from which ``rarefy.post`` derives results
 
@@ -23,6 +25,7 @@ from __future__ import annotations
 import json
 import os
 from dataclasses import dataclass
+from dataclasses import field as dataclass_field
 from datetime import datetime, timezone
 from pathlib import Path
 
@@ -66,6 +69,17 @@ class ResultData:
     plane_mirrored: np.ndarray
     plane_area: np.ndarray
     walls: list
+    probe_names: list = dataclass_field(default_factory=list)
+    probe_box: np.ndarray = None
+    probe_volume: np.ndarray = None
+    probe_direction: list = dataclass_field(default_factory=list)
+    probe_mom: np.ndarray = None       # [batch, probe, PM_*]
+    probe_hist: np.ndarray = None      # [batch, probe, H_*, bins + 1]
+    speed_edges: np.ndarray = None     # bin edges of the speed histograms (m/s)
+
+    @property
+    def histogram_bins(self) -> int:
+        return len(self.speed_edges) - 1 if self.speed_edges is not None else 0
 
     @property
     def batches(self) -> int:
@@ -129,12 +143,25 @@ def write_result(path: str | Path, sim, interrupted: bool = False) -> Path:
         pg.create_dataset("mirrored", data=geom.plane_mirrored)
         _dataset(pg, "area", geom.plane_area, "m^2")
         _dataset(grid, "row_weight", geom.row_weight, "1")
+        hg = f.create_group("histograms")
+        _dataset(hg, "speed_edges", np.linspace(0.0, sim.speed_max, acc.nbins + 1), "m/s")
+        prg = f.create_group("probes")
+        pr = sim.probes
+        prg.create_dataset("name", data=np.array(pr.names, dtype="S"))
+        _dataset(prg, "box", pr.box, "m")
+        _dataset(prg, "volume", pr.volume, "m^3")
+        prg.create_dataset("direction", data=np.array(pr.direction, dtype="S"))
         wg = f.create_group("walls")
         _dataset(wg, "segments", geom.segs[:, :4], "m")
         raw = f.create_group("raw")
         _dataset(raw, "cell_total", acc.cell_total, "sums of 1, v, vv, c^2 v, c^2 (SI)")
         _dataset(raw, "surface_tally", acc.surf[:nb], "per batch: hits, sums of v (m/s), c^2")
-        _dataset(raw, "flux_tally", acc.flux[:nb], "per batch: crossings, sums of c, c^2")
+        _dataset(raw, "flux_tally", acc.flux[:nb], "per batch: crossings, sums of c, c^2, "
+                 "then speed histograms of positive and negative crossings (+ overflow)")
+        _dataset(raw, "probe_moments", acc.probe_mom[:nb], "per batch: weighted sums of 1, v "
+                 "(m/s), vv, c, c^2")
+        _dataset(raw, "probe_histograms", acc.probe_hist[:nb], "per batch: weighted counts of "
+                 "speed, vx, vy, vz per bin (+ overflow)")
         _dataset(raw, "collisions", acc.collisions[:nb], "per batch: count, separation (m), "
                  "candidates")
         _dataset(raw, "particles", acc.particles[:nb], "per batch: sum over steps of count")
@@ -172,4 +199,15 @@ def read_result(path: str | Path) -> ResultData:
             plane_mirrored=f["flux_planes/mirrored"][()],
             plane_area=f["flux_planes/area"][()],
             walls=[tuple(s) for s in f["walls/segments"][()]],
+            **_probe_data(f),
         ) if nx * ny else None
+
+
+def _probe_data(f) -> dict:
+    if "probes" not in f:
+        return {}
+    return dict(
+        probe_names=_strings(f["probes/name"]), probe_box=f["probes/box"][()],
+        probe_volume=f["probes/volume"][()], probe_direction=_strings(f["probes/direction"]),
+        probe_mom=f["raw/probe_moments"][()], probe_hist=f["raw/probe_histograms"][()],
+        speed_edges=f["histograms/speed_edges"][()])

@@ -25,9 +25,22 @@ P_START, P_END, P_SIGMA, P_ACC, P_VEL = range(5)
 T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, T_C2_IN, T_C2_OUT = range(7)
 N_SURF_TALLY = 7
 
-# Columns of the flux-plane tallies (per plane): positive / negative crossings.
+# Columns of the flux-plane tallies (per plane): positive / negative crossings, then
+# the speed histograms of the crossings: F_HIST + b (positive, bins b = 0..nb-1, then an
+# overflow column) and F_HIST + nb + 1 + b (negative, then overflow).
 F_N_POS, F_N_NEG, F_C_POS, F_C_NEG, F_C2_POS, F_C2_NEG = range(6)
 N_FLUX_TALLY = 6
+F_HIST = 6
+# Extra columns of the flux-plane rows handed to the move kernels (after x0, y0, x1, y1):
+# histogram bins per (m/s) and number of bins.
+PL_INV_DV, PL_NBINS = 4, 5
+
+# Probe sums (per probe): weight, first and second velocity moments, speed, speed^2.
+(PM_W, PM_VX, PM_VY, PM_VZ, PM_VXX, PM_VYY, PM_VZZ, PM_VXY, PM_VXZ, PM_VYZ, PM_C,
+ PM_C2) = range(12)
+N_PROBE_MOMENTS = 12
+# Probe histograms (per probe): speed, vx, vy, vz, each nb bins plus an overflow bin.
+H_SPEED, H_VX, H_VY, H_VZ = range(4)
 
 # Columns of the cell moment sums.
 (M_N, M_VX, M_VY, M_VZ, M_VXX, M_VYY, M_VZZ, M_VXY, M_VXZ, M_VYZ,

@@ -15,15 +15,16 @@ Geometry arrives as plain arrays (see ``rarefy.geometry.planar``):
 ``box = xmin, xmax, ymin, ymax``,
 ``pieces[j] = start, end, sigma, acc, vel``  domain-side pieces,
 ``piece_int[j] = side, kind, first facet, number of facets``,
-``planes[p] = x0, y0, x1, y1``  flux planes.
+``planes[p] = x0, y0, x1, y1, bins per (m/s), bins``  flux planes and their speed
+histograms.
 """
 
 import numpy as np
 from numba import njit
 
 from rarefy.kernels.config import (
-    BND_ABSORB, BND_PERIODIC, F_C2_NEG, F_C2_POS, F_C_NEG, F_C_POS, F_N_NEG, F_N_POS, JIT,
-    P_ACC, P_END, P_SIGMA, P_START, P_VEL, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN, T_C2_IN, T_C2_OUT,
+    BND_ABSORB, BND_PERIODIC, F_C2_NEG, F_C2_POS, F_C_NEG, F_C_POS, F_HIST, F_N_NEG, F_N_POS,
+    JIT, PL_INV_DV, PL_NBINS, P_ACC, P_END, P_SIGMA, P_START, P_VEL, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN, T_C2_IN, T_C2_OUT,
     T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, W_ACC, W_SIGMA, W_VEL, W_X0, W_X1, W_Y0,
     W_Y1,
 )
@@ -83,20 +84,29 @@ def _cross_planes(x, y, vx, vy, vz, t, planes, ftally, w):
         ex = planes[p, 2] - planes[p, 0]
         ey = planes[p, 3] - planes[p, 1]
         # right-hand normal (ey, -ex) is the positive direction
-        tally_crossing(ftally, p, vx * ey - vy * ex > 0.0, vx * vx + vy * vy + vz * vz, w)
+        tally_crossing(ftally, planes, p, vx * ey - vy * ex > 0.0, vx * vx + vy * vy + vz * vz, w)
 
 
 @njit(inline="always", **JIT)
-def tally_crossing(ftally, p, positive, c2, w):
-    """Count one crossing of flux plane ``p`` by a molecule of squared speed ``c2``."""
+def tally_crossing(ftally, planes, p, positive, c2, w):
+    """Count one crossing of flux plane ``p`` by a molecule of squared speed ``c2`` and
+    bin its speed (``planes[p, PL_INV_DV]`` bins per m/s, ``planes[p, PL_NBINS]`` bins;
+    faster molecules go to the overflow column)."""
+    c = np.sqrt(c2)
+    nb = int(planes[p, PL_NBINS])
+    b = int(c * planes[p, PL_INV_DV])
+    if b > nb:
+        b = nb
     if positive:
         ftally[p, F_N_POS] += w
-        ftally[p, F_C_POS] += np.sqrt(c2) * w
+        ftally[p, F_C_POS] += c * w
         ftally[p, F_C2_POS] += c2 * w
+        ftally[p, F_HIST + b] += w
     else:
         ftally[p, F_N_NEG] += w
-        ftally[p, F_C_NEG] += np.sqrt(c2) * w
+        ftally[p, F_C_NEG] += c * w
         ftally[p, F_C2_NEG] += c2 * w
+        ftally[p, F_HIST + nb + 1 + b] += w
 
 
 @njit(inline="always", **JIT)

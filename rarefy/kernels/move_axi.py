@@ -112,7 +112,7 @@ def _cross_planes_axi(px, pr, ux, ur, ut, t, planes, ftally, w):
             _, vr, vt = rotate_to(pr, ur, ut, tc)
             ex = planes[p, 2] - planes[p, 0]
             er = planes[p, 3] - planes[p, 1]
-            tally_crossing(ftally, p, ux * er - vr * ex > 0.0, ux * ux + ur * ur + ut * ut, w)
+            tally_crossing(ftally, planes, p, ux * er - vr * ex > 0.0, ux * ux + ur * ur + ut * ut, w)
 
 
 @njit(inline="always", **JIT)

@@ -10,10 +10,12 @@ moments (n, u, T, p) are the same in both samples.
 Division into physical fields happens once, in ``rarefy.post.fields``.
 """
 
+import numpy as np
 from numba import njit
 
 from rarefy.kernels.config import (
-    JIT, M_C2, M_C2VX, M_C2VY, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ,
+    H_SPEED, H_VX, H_VY, H_VZ, JIT, PM_C, PM_C2, PM_VX, PM_VXX, PM_VXY, PM_VXZ, PM_VY, PM_VYY,
+    PM_VYZ, PM_VZ, PM_VZZ, PM_W, M_C2, M_C2VX, M_C2VY, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ,
     M_VZZ,
 )
 
@@ -63,3 +65,55 @@ def sample_cells(ncell, nsub, key_start, vx, vy, vz, acc, weight):
         acc[c, M_C2VX] += weight * s_cx
         acc[c, M_C2VY] += weight * s_cy
         acc[c, M_C2] += weight * s_c2
+
+
+@njit(**JIT)
+def sample_probes(box, cells, cell_start, nsub, key_start, cell_wt, x, y, vx, vy, vz, vmax,
+                  mom, hist, weight):
+    """Add ``weight`` times the velocity sums and histograms of the particles inside each
+    probe.
+
+    ``box[q] = x0, x1, y0, y1`` is probe q's rectangle (m) and
+    ``cells[cell_start[q]:cell_start[q + 1]]`` the cells it overlaps; a particle counts
+    with its cell's weight factor ``cell_wt`` (radial weighting). ``mom[q]`` receives the
+    PM_* sums, ``hist[q, H_*, b]`` the speed histogram on [0, vmax) and the component
+    histograms on [-vmax, vmax), bin ``nb`` (the last) collecting what falls outside.
+    """
+    nb = hist.shape[2] - 1
+    ns2 = nsub * nsub
+    inv_s = nb / vmax
+    inv_c = 0.5 * nb / vmax
+    for q in range(box.shape[0]):
+        x0 = box[q, 0]
+        x1 = box[q, 1]
+        y0 = box[q, 2]
+        y1 = box[q, 3]
+        for k in range(cell_start[q], cell_start[q + 1]):
+            c = cells[k]
+            w = weight * cell_wt[c]
+            for i in range(key_start[c * ns2], key_start[(c + 1) * ns2]):
+                if x[i] < x0 or x[i] >= x1 or y[i] < y0 or y[i] >= y1:
+                    continue
+                u = vx[i]
+                v = vy[i]
+                t = vz[i]
+                c2 = u * u + v * v + t * t
+                s = np.sqrt(c2)
+                mom[q, PM_W] += w
+                mom[q, PM_VX] += w * u
+                mom[q, PM_VY] += w * v
+                mom[q, PM_VZ] += w * t
+                mom[q, PM_VXX] += w * u * u
+                mom[q, PM_VYY] += w * v * v
+                mom[q, PM_VZZ] += w * t * t
+                mom[q, PM_VXY] += w * u * v
+                mom[q, PM_VXZ] += w * u * t
+                mom[q, PM_VYZ] += w * v * t
+                mom[q, PM_C] += w * s
+                mom[q, PM_C2] += w * c2
+                b = int(s * inv_s)
+                hist[q, H_SPEED, b if b < nb else nb] += w
+                for h, comp in ((H_VX, u), (H_VY, v), (H_VZ, t)):
+                    f = (comp + vmax) * inv_c
+                    b = int(f) if f >= 0.0 else nb
+                    hist[q, h, b if b < nb else nb] += w

@@ -13,17 +13,22 @@ from typing import Callable
 
 import numpy as np
 
-from rarefy.kernels.config import N_FLUX_TALLY, N_MOMENTS, N_SURF_TALLY
+from rarefy.kernels.config import N_FLUX_TALLY, N_MOMENTS, N_PROBE_MOMENTS, N_SURF_TALLY
 from rarefy.post.uncertainty import blocked_stderr
 
 __all__ = ["Accumulators"]
 
 
 class Accumulators:
-    """All sums of one run's sampling phase, ``batches`` blocks of ``steps_per_batch``."""
+    """All sums of one run's sampling phase, ``batches`` blocks of ``steps_per_batch``.
+
+    Flux-plane rows hold the crossing sums and then two speed histograms of ``nbins``
+    bins plus overflow (``rarefy.kernels.config.F_HIST``); probes hold velocity sums
+    (``PM_*``) and four histograms (``H_*``) of ``nbins`` bins plus overflow.
+    """
 
     def __init__(self, ncell: int, nfacet: int, nplane: int, batches: int,
-                 steps_per_batch: int):
+                 steps_per_batch: int, nprobe: int = 0, nbins: int = 0):
         self.batches = batches
         self.steps_per_batch = steps_per_batch
         self.batch = 0
@@ -31,7 +36,10 @@ class Accumulators:
         self.cell_batch = np.zeros((ncell, N_MOMENTS))
         self.cell_total = np.zeros((ncell, N_MOMENTS))
         self.surf = np.zeros((batches, max(nfacet, 0), N_SURF_TALLY))
-        self.flux = np.zeros((batches, max(nplane, 0), N_FLUX_TALLY))
+        self.nbins = nbins
+        self.flux = np.zeros((batches, max(nplane, 0), N_FLUX_TALLY + 2 * (nbins + 1)))
+        self.probe_mom = np.zeros((batches, nprobe, N_PROBE_MOMENTS))
+        self.probe_hist = np.zeros((batches, nprobe, 4, nbins + 1))
         self.collisions = np.zeros((batches, 3))   # collisions, separation sum, candidates
         self.particles = np.zeros(batches)         # sum over steps of the particle count
         self.field_sum: dict[str, np.ndarray] = {}
@@ -45,6 +53,8 @@ class Accumulators:
         self.flux = np.pad(self.flux, pad)
         self.collisions = np.pad(self.collisions, ((0, extra), (0, 0)))
         self.particles = np.pad(self.particles, (0, extra))
+        self.probe_mom = np.pad(self.probe_mom, pad)
+        self.probe_hist = np.pad(self.probe_hist, pad + ((0, 0),))
         self.batches += extra
 
     def relative_error(self, plane: int) -> float:
