@@ -58,7 +58,7 @@ def build_report(r: ResultData) -> dict:
         "diagnostics": diagnostics(r),
         "flux_planes": planes,
         "surfaces": surface_results(r),
-        "probes": probe_results(r),
+        "probes": probe_results(r, case),
         "plan_warnings": p.get("warnings", []) + (
             [f"{r.attrs['lost_duplicates']} radial-weighting duplicates did not fit in "
              "memory and were dropped: the density near the axis is biased low"]
@@ -182,6 +182,13 @@ def format_report(rep: dict) -> str:
         lines.append(f"  source gas at rest ({an['temperature_k']:.4g} K): most probable "
                      f"{an['most_probable_speed_m_s']:.4g} m/s, mean "
                      f"{an['mean_speed_m_s']:.4g} m/s, rms {an['rms_speed_m_s']:.4g} m/s")
+        fm = an.get("free_molecular_beam")
+        if fm:
+            lines.append(
+                f"  free-molecular beam here: n {fm['number_density_m3']:.4g} m^-3, drift "
+                f"{fm['drift_m_s']:.4g} m/s, T_par {fm['temperature_parallel_k']:.4g} K, "
+                f"T_perp {fm['temperature_perpendicular_k']:.4g} K, speed ratio "
+                f"{fm['speed_ratio']:.4g}")
         if pr["overflow_fraction"] > 1e-4:
             lines.append(f"  note: {pr['overflow_fraction']:.2%} of the molecules were faster "
                          "than the histogram range; raise [histograms] speed_max")

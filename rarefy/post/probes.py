@@ -29,6 +29,8 @@ from scipy import optimize, stats
 
 from rarefy.constants import K_B
 from rarefy.gas import kinetic
+from rarefy.post.results import upstream_downstream
+from rarefy.theory import effusion
 from rarefy.io.result import ResultData, read_result
 from rarefy.kernels.config import (
     F_HIST, H_SPEED, H_VX, H_VY, H_VZ, PM_C, PM_C2, PM_VX, PM_VXX, PM_VY, PM_VYY, PM_VZ,
@@ -140,9 +142,34 @@ def _component_fit(edges, hist, mass_kg, start_u, start_t) -> dict:
             "temperature_stderr_k": 2.0 * t * ss / s, **_fit_summary(fit)}
 
 
-def probe_results(r: ResultData) -> dict:
+def _orifice_beam(case, box, mass_kg) -> dict | None:
+    """Free-molecular values at the probe centre when the probe sits on the axis behind
+    a thin orifice (a flux plane from the axis with opening = "orifice", no length)."""
+    if case is None or not case.domain.axisymmetric or box[2] > 0.0:
+        return None
+    for fp in case.flux_planes:
+        if fp.opening == "orifice" and fp.opening_length_m == 0.0 and fp.start[0] == fp.end[0] \
+                and min(fp.start[1], fp.end[1]) == 0.0:
+            z = 0.5 * (box[0] + box[1]) - fp.start[0]
+            if z <= 0.0:
+                return None
+            p0, t0, _ = upstream_downstream(case)
+            a = abs(fp.end[1] - fp.start[1])
+            beam = {k: float(v) for k, v in
+                    effusion.orifice_axis_beam(z, a, t0, mass_kg).items()}
+            beam["number_density_m3"] = float(effusion.orifice_axis_density(
+                z, a, p0 / (K_B * t0)))
+            beam["note"] = (f"free-molecular beam on the axis {z:.4g} m behind the orifice "
+                            "plane '" + fp.name + "' (probe centre)")
+            return beam
+    return None
+
+
+def probe_results(r: ResultData, case=None) -> dict:
     """Per probe: the quantities of :func:`probe_batch_values` with ``_stderr`` twins,
-    the fits and the bin edges (JSON-ready; SI units in the key names)."""
+    the fits and the analytic references (JSON-ready; SI units in the key names).
+    With the ``case``, probes on the axis behind a thin orifice also get the
+    free-molecular beam values at their centre."""
     out = {}
     if not r.probe_names or r.batches == 0:
         return out
@@ -192,6 +219,9 @@ def probe_results(r: ResultData) -> dict:
             "mean_speed_m_s": float(kinetic.mean_speed(mass, t0)),
             "rms_speed_m_s": float(kinetic.rms_speed(mass, t0)),
         }
+        beam = _orifice_beam(case, r.probe_box[q], mass)
+        if beam:
+            row["analytic"]["free_molecular_beam"] = beam
         out[name] = row
     return out
 

@@ -21,6 +21,7 @@ __all__ = [
     "flux_weighted_mean_speed",
     "flux_weighted_mean_energy",
     "orifice_axis_density",
+    "orifice_axis_beam",
 ]
 
 
@@ -159,3 +160,34 @@ def orifice_axis_density(z_m, radius_m, n0_m3):
     s = np.sqrt(z * z + a * a)
     # 1 - z/s = a^2 / (s (s + z)), free of cancellation far downstream
     return 0.5 * float(n0_m3) * a * a / (s * (s + z))
+
+
+def orifice_axis_beam(z_m, radius_m, t_k, mass_kg) -> dict:
+    """Drift, temperatures and speed ratio on the axis of a free-molecular orifice beam.
+
+    At a distance z on the axis the molecules are the reservoir's Maxwellian restricted to
+    the directions through the hole, a cone of half-angle theta_m, mu = cos theta_m =
+    z / sqrt(z^2 + a^2), filled uniformly in solid angle (the solid-angle argument of
+    :func:`orifice_axis_density`). Averages over that cone (derived here):
+    <cos> = (1 + mu)/2, <cos^2> = (1 + mu + mu^2)/3, so
+
+    * drift u = cbar (1 + mu) / 2, cbar = sqrt(8kT/(pi m));
+    * T_par = T [(1 + mu + mu^2) - 2 (1 + mu)^2 / pi];
+    * T_perp = T (2 - mu - mu^2) / 2 (each transverse axis);
+    * speed ratio S = u / sqrt(2 k T_par / m).
+
+    Far away (mu -> 1) S -> sqrt(4/pi) / sqrt(3 - 8/pi) = 1.6765, the effusive beam's value.
+
+    Returns a dict with ``drift_m_s``, ``temperature_parallel_k``,
+    ``temperature_perpendicular_k``, ``speed_ratio`` (floats or arrays like ``z_m``).
+    """
+    z = np.asarray(z_m, dtype=float)
+    if np.any(z < 0.0) or radius_m <= 0.0:
+        raise ValueError("need z_m >= 0 and radius_m > 0")
+    mu = z / np.sqrt(z * z + radius_m * radius_m)
+    cbar = mean_speed(t_k, mass_kg)
+    u = 0.5 * cbar * (1.0 + mu)
+    t_par = t_k * ((1.0 + mu + mu * mu) - 2.0 * (1.0 + mu) ** 2 / np.pi)
+    return {"drift_m_s": u, "temperature_parallel_k": t_par,
+            "temperature_perpendicular_k": 0.5 * t_k * (2.0 - mu - mu * mu),
+            "speed_ratio": u / np.sqrt(2.0 * K_B * t_par / mass_kg)}

@@ -157,3 +157,25 @@ def test_stderr_keys_keep_the_unit_last():
 def test_plot_rejects_an_unknown_probe(tmp_path):
     res = CliRunner().invoke(cli, ["plot", str(tmp_path), "--probe", "x"])
     assert res.exit_code == 2 and "Traceback" not in res.output
+
+
+def test_orifice_axis_beam_against_a_monte_carlo_cone_average():
+    # Molecules on the axis at z behind a thin orifice: reservoir Maxwellian restricted to
+    # the cone through the hole (solid-angle argument, kinetic theory). Monte Carlo:
+    # isotropic Maxwellian velocities, kept where they point into the cone.
+    from rarefy.constants import K_B
+    from rarefy.theory.effusion import orifice_axis_beam
+    m, t, a, z = 6.63e-26, 300.0, 1e-3, 1.5e-3
+    rng = np.random.default_rng(3)
+    v = rng.normal(0.0, math.sqrt(K_B * t / m), (3, 4 * 10 ** 6))
+    c = np.sqrt((v ** 2).sum(axis=0))
+    keep = v[0] / c >= z / math.hypot(z, a)
+    vx = v[0, keep]
+    ref = orifice_axis_beam(z, a, t, m)
+    assert vx.mean() == pytest.approx(ref["drift_m_s"], rel=3e-3)
+    assert m * vx.var() / K_B == pytest.approx(ref["temperature_parallel_k"], rel=1e-2)
+    assert m * v[1, keep].var() / K_B == pytest.approx(ref["temperature_perpendicular_k"],
+                                                       rel=1e-2)
+    # far away: the effusive beam's speed ratio sqrt(4/pi) / sqrt(3 - 8/pi)
+    far = orifice_axis_beam(1e3, a, t, m)["speed_ratio"]
+    assert far == pytest.approx(math.sqrt(4 / math.pi) / math.sqrt(3 - 8 / math.pi), rel=1e-6)

@@ -59,3 +59,20 @@ def test_orifice_reduced_flow_rate(tmp_path, delta, w_ref, overrides):
     assert abs(w - w_ref) <= 0.03 * w_ref, (w, err, w_ref)
     # the simulated flow lies between the free-molecular and the isentropic limits
     assert 1.0 - 3 * err < w < fp["analytic"]["isentropic_choked_transmission_probability"]
+    # on the axis 4 radii downstream: towards the continuum the beam is faster and colder
+    # along the axis than the free-molecular (effusive) beam -- the jet's expansion
+    # cooling (qualitative physics; the FM values are rarefy.theory.effusion's cone
+    # averages at the probe centre)
+    pr = rep["probes"]["axis_4a"]
+    fm = pr["analytic"]["free_molecular_beam"]
+    s, s_se = pr["speed_ratio"], pr["speed_ratio_stderr"]
+    t_par, t_se = pr["temperature_parallel_k"], pr["temperature_parallel_stderr_k"]
+    print(f"  axis 4a: speed ratio {s:.3f} +/- {s_se:.3f} (FM {fm['speed_ratio']:.3f}), "
+          f"T_par {t_par:.1f} +/- {t_se:.1f} K (FM {fm['temperature_parallel_k']:.1f} K), "
+          f"drift {pr['velocity_x_m_s']:.1f} m/s (FM {fm['drift_m_s']:.1f}), n "
+          f"{pr['number_density_m3']:.4g} (FM {fm['number_density_m3']:.4g}) m^-3")
+    if delta >= 10.0:
+        # measured (seed 2): S 2.50 +/- 0.04 = 1.49 x FM, T_par 96.8 +/- 3.0 K = 0.73 x FM
+        assert s > 1.3 * fm["speed_ratio"] and s - 5 * s_se > fm["speed_ratio"]
+        assert t_par < 0.85 * fm["temperature_parallel_k"]
+        assert t_par + 5 * t_se < fm["temperature_parallel_k"]
