@@ -383,9 +383,11 @@ def _register() -> None:
     from rarefy.cli_estimate import estimate
     from rarefy.cli_speeds import speeds
     from rarefy.cli_sweep import sweep
+    from rarefy.cli_tof import tof
     cli.add_command(estimate)
     cli.add_command(speeds)
     cli.add_command(sweep)
+    cli.add_command(tof)
 
 
 _register()

@@ -13,6 +13,7 @@ the batch histograms (``rarefy.post.fit``), and binned CDFs compared at the bin 
 """
 
 import math
+import re
 
 import numpy as np
 import pytest
@@ -192,3 +193,32 @@ def test_free_molecular_effusion_speed_distributions(tmp_path):
         assert se < 0.004 * ref
         assert abs(v / ref - 1) < 0.01 and abs(v - ref) < 3 * se
     assert p > 0.01
+
+
+def test_example_beam_source_runs_end_to_end_to_a_tof_plot(tmp_path):
+    # the documented example (examples/beam-source), shortened; then `rarefy tof` on its
+    # on-axis probe. Recovery from the trace returns the probe's flux-weighted mean speed
+    # (the deconvolution is validated on its own in test_tof_effusive.py).
+    from pathlib import Path
+
+    from click.testing import CliRunner
+
+    from rarefy.cli import cli
+
+    example = Path(__file__).resolve().parents[2] / "examples" / "beam-source" / "case.toml"
+    run = tmp_path / "beam-run"
+    res = CliRunner().invoke(cli, ["run", str(example), "-o", str(run), "-q", "--seed", "3",
+                                   "--set", "run.sample_steps=3000",
+                                   "--set", "run.batches=20"])
+    assert res.exit_code == 0, res.output
+    res = CliRunner().invoke(cli, ["tof", str(run), "--source", "axis_4a",
+                                   "--flight-length", "0.45 m", "--slit-width", "1 mm",
+                                   "--rim-speed", "150 m/s", "--ionizer-length", "5 mm"])
+    assert res.exit_code == 0, res.output
+    source = float(re.search(r"source\s+([\d.]+) m/s", res.output).group(1))
+    recovered = float(re.search(r"recovered from TOF\s+([\d.]+) m/s", res.output).group(1))
+    assert abs(recovered / source - 1) < 0.02, res.output
+    for name in ("tof_axis_4a.csv", "tof_axis_4a.png", "speeds_from_tof_axis_4a.png"):
+        assert (run / "tof" / name).stat().st_size > 0
+    res = CliRunner().invoke(cli, ["plot", str(run), "--probe", "axis_4a"])
+    assert res.exit_code == 0 and (run / "plots" / "probe_axis_4a.png").exists()
