@@ -21,6 +21,7 @@ else:  # pragma: no cover
 __all__ = [
     "SIDES",
     "CaseError",
+    "one_line",
     "GasSpec",
     "Domain",
     "Surface",
@@ -62,8 +63,17 @@ class CaseError(Exception):
 
     def __str__(self) -> str:
         if self.key:
-            return f"{self.path}: {self.key}: {self.message}"
-        return f"{self.path}: {self.message}"
+            return one_line(f"{self.path}: {self.key}: {self.message}")
+        return one_line(f"{self.path}: {self.message}")
+
+
+def one_line(text: str) -> str:
+    """``text`` with every unprintable character (line breaks, tabs, control and format
+    characters) written as an escape such as ``\\n`` or ``\\u202e``, so that an error
+    message stays one readable line whatever the case file's keys contain."""
+    if text.isprintable():
+        return text
+    return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
 
 
 @dataclass(frozen=True)
@@ -206,12 +216,14 @@ class Resolution:
 
 @dataclass(frozen=True)
 class RunControl:
-    """Step counts and seed (``None``: chosen at run time)."""
+    """Step counts and seed (``None``: chosen at run time); ``time_budget_s``: the
+    wall time the run may take (``None``: no limit), checked by :mod:`rarefy.guards`."""
 
     settle_steps: int | None
     sample_steps: int | None
     batches: int | None
     seed: int | None
+    time_budget_s: float | None = None
 
 
 @dataclass(frozen=True)
@@ -292,6 +304,10 @@ def parse_case(
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise _decode_error(path, exc) from None
+    except ValueError:   # an integer of thousands of digits, beyond what Python reads
+        raise CaseError(path, "", "TOML syntax error: an integer is too long; TOML integers "
+                                  "are 64-bit, from -9223372036854775808 to "
+                                  "9223372036854775807") from None
     applied = []
     for key, value in (overrides or {}).items():
         case_schema.apply_override(raw, key, value, path)
@@ -321,7 +337,7 @@ def load_case(path: str | Path, overrides: dict[str, object] | None = None) -> C
     """
     p = Path(path)
     try:
-        text = p.read_text(encoding="utf-8")
+        text = p.read_text(encoding="utf-8-sig")   # a byte-order mark is dropped
     except FileNotFoundError:
         raise CaseError(str(path), "", "case file not found") from None
     except IsADirectoryError:

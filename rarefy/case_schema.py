@@ -18,7 +18,7 @@ from rarefy.case import (
     SIDES, Boundary, CaseError, Domain, FluxPlane, GasSpec, Histograms, InitialState, Probe,
     Resolution, RunControl, Surface, Wall,
 )
-from rarefy.units import UNITS, UnitError, parse_quantity
+from rarefy.units import UNITS, UnitError, parse_quantity, show
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -34,7 +34,7 @@ SECTION_KEYS = {
     "domain": ("geometry", "x", "y", "depth", "characteristic_length"),
     "initial": ("pressure", "temperature", "velocity"),
     "resolution": ("cell_size", "time_step", "particles_per_cell", "particle_weight", "subcells"),
-    "run": ("settle_steps", "sample_steps", "batches", "seed"),
+    "run": ("settle_steps", "sample_steps", "batches", "seed", "time_budget"),
     "histograms": ("speed_max", "bins"),
 }
 BOUNDARY_KEYS = {
@@ -57,6 +57,26 @@ MODELS = ("hs", "vhs", "vss")
 GEOMETRIES = ("planar", "axisymmetric")
 OPENINGS = ("orifice", "tube", "slit", "channel")
 SURFACES = ("diffuse", "specular", "maxwell")
+
+# Magnitudes a quantity may have, by kind: (smallest non-zero, largest). They reach far
+# beyond any rarefied-gas case (1e-20 Pa is an almost empty space, 1e9 Pa ten thousand
+# atmospheres; 1 mK to 1e6 K; 10 km; 1000 km/s), and inside them every number the
+# planner derives (number density, mean free path, cell counts, steps) stays a finite
+# double instead of overflowing or rounding to zero.
+RANGES: dict[str, tuple[float, float]] = {
+    "pressure": (1e-20, 1e9),
+    "temperature": (1e-3, 1e6),
+    "length": (0.0, 1e4),          # positions; sizes also have MIN_SIZE_M
+    "time": (1e-18, 1e9),
+    "velocity": (0.0, 1e6),
+    "dimensionless": (0.0, math.inf),
+}
+MIN_SIZE_M = 1e-12                 # cell size, depth, characteristic length
+MIN_DOMAIN_M = 1e-9                # domain extent: a few molecular diameters
+PARTICLES_PER_CELL_RANGE = (1e-6, 1e9)
+PARTICLE_WEIGHT_RANGE = (1e-20, 1e40)
+MAX_COUNT = 10 ** 12               # step counts and batches
+MAX_SUBCELLS = 100
 
 
 def _join(prefix: str, name: str) -> str:
@@ -91,48 +111,62 @@ class Checker:
         return tbl[name]
 
     def quantity(self, value: Any, key: str, kind: str, minimum: float | None = None,
-                 strict: bool = True) -> float:
-        """Parse a quantity; ``minimum`` with ``strict`` means ``> minimum`` else ``>=``."""
+                 strict: bool = True, limits: tuple[float, float] | None = None) -> float:
+        """Parse a quantity; ``minimum`` with ``strict`` means ``> minimum`` else ``>=``.
+
+        A non-zero value must also have a magnitude within ``limits`` (default
+        :data:`RANGES` of ``kind``)."""
         try:
             result = parse_quantity(value, kind)
         except UnitError as exc:
             self.fail(key, str(exc))
+        unit = next(iter(UNITS[kind]), "")
         if minimum is not None and (result <= minimum if strict else result < minimum):
-            unit = next(iter(UNITS[kind]), "")
             op = ">" if strict else ">="
-            self.fail(key, f"must be {op} {minimum:g} {unit}".rstrip() + f"; got {value!r}")
+            self.fail(key, f"must be {op} {minimum:g} {unit}".rstrip() + f"; got {show(value)}")
+        lo, hi = limits or RANGES[kind]
+        if abs(result) > hi or (result != 0.0 and abs(result) < lo):
+            if minimum is None:
+                allowed = (f"from {-hi:g} to {hi:g}" if lo == 0.0 else
+                           f"0 or of magnitude {lo:g} to {hi:g}")
+            elif strict or lo == 0.0:
+                allowed = f"from {max(lo, minimum):g} to {hi:g}"
+            else:
+                allowed = f"0 or from {lo:g} to {hi:g}"
+            self.fail(key, f"must be {allowed} {unit}".rstrip() + f"; got {show(value)}")
         return result
 
-    def integer(self, value: Any, key: str, minimum: int) -> int:
-        if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
-            self.fail(key, f"must be an integer >= {minimum}; got {value!r}")
+    def integer(self, value: Any, key: str, minimum: int, maximum: int | None = None) -> int:
+        top = MAX_COUNT if maximum is None else maximum
+        if isinstance(value, bool) or not isinstance(value, int) or not minimum <= value <= top:
+            self.fail(key, f"must be an integer >= {minimum} (at most {top}); got {show(value)}")
         return value
 
     def string(self, value: Any, key: str, what: str = "a string") -> str:
         if not isinstance(value, str) or not value.strip():
-            self.fail(key, f"must be {what} (non-empty, in quotes); got {value!r}")
+            self.fail(key, f"must be {what} (non-empty, in quotes); got {show(value)}")
         return value
 
     def boolean(self, value: Any, key: str) -> bool:
         if not isinstance(value, bool):
-            self.fail(key, f"must be true or false; got {value!r}")
+            self.fail(key, f"must be true or false; got {show(value)}")
         return value
 
     def choice(self, value: Any, key: str, choices: tuple[str, ...]) -> str:
         if isinstance(value, str) and value.strip().lower() in choices:
             return value.strip().lower()
-        self.fail(key, f"must be one of: {', '.join(choices)}; got {value!r}")
+        self.fail(key, f"must be one of: {', '.join(choices)}; got {show(value)}")
 
     def vector3(self, value: Any, key: str) -> tuple[float, float, float]:
         if not isinstance(value, list) or len(value) != 3:
             self.fail(key, f'must be [vx, vy, vz], e.g. ["0 m/s", "0 m/s", "0 m/s"]; '
-                           f"allowed units: {_units('velocity')}; got {value!r}")
+                           f"allowed units: {_units('velocity')}; got {show(value)}")
         return tuple(self.quantity(v, f"{key}[{i}]", "velocity") for i, v in enumerate(value))
 
     def point(self, value: Any, key: str) -> tuple[float, float]:
         if not isinstance(value, list) or len(value) != 2:
             self.fail(key, f'must be a point [x, y], e.g. ["0 mm", "1 mm"]; allowed units: '
-                           f"{_units('length')}; got {value!r}")
+                           f"{_units('length')}; got {show(value)}")
         return (self.quantity(value[0], key, "length"), self.quantity(value[1], key, "length"))
 
     def surface(self, tbl: dict, key: str) -> Surface:
@@ -153,7 +187,7 @@ class Checker:
             accommodation = self.quantity(value, _join(key, "accommodation"), "dimensionless")
             if not 0.0 < accommodation <= 1.0:
                 self.fail(_join(key, "accommodation"),
-                          f"must be a number with 0 < accommodation <= 1; got {value!r}")
+                          f"must be a number with 0 < accommodation <= 1; got {show(value)}")
         elif "accommodation" in tbl:
             self.fail(_join(key, "accommodation"),
                       f'allowed only with surface = "maxwell" (here surface = "{kind}")')
@@ -167,7 +201,7 @@ def _species(chk: Checker, gas: dict) -> GasSpec:
     name = chk.require(gas, "gas", "species", f"allowed: {', '.join(SPECIES)}")
     canon = {k.lower(): k for k in SPECIES}
     if not isinstance(name, str) or name.strip().lower() not in canon:
-        chk.fail("gas.species", f"unknown species {name!r}; allowed: {', '.join(SPECIES)}")
+        chk.fail("gas.species", f"unknown species {show(name)}; allowed: {', '.join(SPECIES)}")
     species = canon[name.strip().lower()]
     model = chk.choice(gas.get("model", "vhs"), "gas.model", MODELS)
     entry = SPECIES[species]
@@ -184,10 +218,13 @@ def _domain(chk: Checker, tbl: dict) -> Domain:
         value = chk.require(tbl, "domain", axis, f'give [min, max], e.g. ["0 mm", "10 mm"]')
         if not isinstance(value, list) or len(value) != 2:
             chk.fail(key, f'must be [min, max] with lengths, e.g. ["0 mm", "10 mm"]; '
-                          f"allowed units: {_units('length')}; got {value!r}")
+                          f"allowed units: {_units('length')}; got {show(value)}")
         lo, hi = (chk.quantity(v, key, "length") for v in value)
         if not hi > lo:
             chk.fail(key, f"max ({hi:.6g} m) must be greater than min ({lo:.6g} m)")
+        if hi - lo < MIN_DOMAIN_M:
+            chk.fail(key, f"the domain must span at least {MIN_DOMAIN_M:g} m (a few molecular "
+                          f"diameters); got {hi - lo:.6g} m")
         spans.append((lo, hi))
     geometry = chk.choice(tbl.get("geometry", "planar"), "domain.geometry", GEOMETRIES)
     if geometry == "axisymmetric":
@@ -197,10 +234,11 @@ def _domain(chk: Checker, tbl: dict) -> Domain:
         if abs(spans[1][0]) > 1e-12 * (spans[1][1] - spans[1][0]):
             chk.fail("domain.y", "an axisymmetric domain starts on the axis: y = [0, R] "
                                  f"(y is the radius); got min {spans[1][0]:.6g} m")
-    depth = chk.quantity(tbl.get("depth", 1.0), "domain.depth", "length", 0.0)
+    size = (MIN_SIZE_M, RANGES["length"][1])
+    depth = chk.quantity(tbl.get("depth", 1.0), "domain.depth", "length", 0.0, limits=size)
     lc = tbl.get("characteristic_length")
     if lc is not None:
-        lc = chk.quantity(lc, "domain.characteristic_length", "length", 0.0)
+        lc = chk.quantity(lc, "domain.characteristic_length", "length", 0.0, limits=size)
     return Domain(spans[0][0], spans[0][1], 0.0 if geometry == "axisymmetric" else spans[1][0],
                   spans[1][1], depth, lc, geometry)
 
@@ -218,30 +256,33 @@ def _initial(chk: Checker, tbl: dict, default_t: float) -> InitialState:
 
 
 def _resolution(chk: Checker, tbl: dict) -> Resolution:
-    def opt(name: str, kind: str) -> float | None:
+    def opt(name: str, kind: str, limits: tuple[float, float] | None = None) -> float | None:
         if name not in tbl:
             return None
-        return chk.quantity(tbl[name], f"resolution.{name}", kind, 0.0)
+        return chk.quantity(tbl[name], f"resolution.{name}", kind, 0.0, limits=limits)
 
     subcells = tbl.get("subcells")
     if subcells is not None:
-        subcells = chk.integer(subcells, "resolution.subcells", 1)
-    return Resolution(opt("cell_size", "length"), opt("time_step", "time"),
-                      opt("particles_per_cell", "dimensionless"),
-                      opt("particle_weight", "dimensionless"), subcells)
+        subcells = chk.integer(subcells, "resolution.subcells", 1, MAX_SUBCELLS)
+    return Resolution(opt("cell_size", "length", (MIN_SIZE_M, RANGES["length"][1])),
+                      opt("time_step", "time"),
+                      opt("particles_per_cell", "dimensionless", PARTICLES_PER_CELL_RANGE),
+                      opt("particle_weight", "dimensionless", PARTICLE_WEIGHT_RANGE), subcells)
 
 
 def _run(chk: Checker, tbl: dict) -> RunControl:
-    minima = {"settle_steps": 0, "sample_steps": 1, "batches": 2, "seed": 0}
-    vals = {k: (chk.integer(tbl[k], f"run.{k}", m) if k in tbl else None)
-            for k, m in minima.items()}
+    limits = {"settle_steps": (0, MAX_COUNT), "sample_steps": (1, MAX_COUNT),
+              "batches": (2, MAX_COUNT), "seed": (0, 2 ** 32 - 1)}
+    vals = {k: (chk.integer(tbl[k], f"run.{k}", lo, hi) if k in tbl else None)
+            for k, (lo, hi) in limits.items()}
     if vals["sample_steps"] is not None and vals["batches"] is not None:
         if vals["sample_steps"] < vals["batches"]:
             chk.fail("run.sample_steps", f"must be >= run.batches ({vals['batches']}); "
                                          f"got {vals['sample_steps']}")
-    if vals["seed"] is not None and vals["seed"] >= 2 ** 32:
-        chk.fail("run.seed", f"must be an integer from 0 to {2 ** 32 - 1}; got {vals['seed']}")
-    return RunControl(**vals)
+    budget = None
+    if "time_budget" in tbl:
+        budget = chk.quantity(tbl["time_budget"], "run.time_budget", "time", 0.0)
+    return RunControl(**vals, time_budget_s=budget)
 
 
 # ----------------------------------------------------------------------------- geometry
@@ -275,7 +316,8 @@ def _piece(chk: Checker, tbl: dict, key: str, side: str, span: tuple, single: bo
                         f"piece (lengths along the side, {span[0]:.6g} m to {span[1]:.6g} m)")
         ends.append(chk.quantity(tbl.get(name, default), f"{key}.{name}", "length"))
     if not ends[1] > ends[0]:
-        chk.fail(f"{key}.to", f"must be greater than from ({ends[0]:.6g} m); got {tbl.get('to')!r}")
+        chk.fail(f"{key}.to", f"must be greater than from ({ends[0]:.6g} m); "
+                              f"got {show(tbl.get('to'))}")
     p = t = surface = None
     v = (0.0, 0.0, 0.0)
     if kind == "reservoir":
@@ -349,7 +391,7 @@ def _points(chk: Checker, value: Any, key: str, domain: Domain, count: str, leas
             most: int | None = None) -> list[tuple[float, float]]:
     if not isinstance(value, list) or len(value) < least or (most and len(value) > most):
         chk.fail(key, f'must be a list of {count} points [x, y], e.g. [["0 mm", "0 mm"], '
-                      f'["0 mm", "1 mm"]]; got {value!r}')
+                      f'["0 mm", "1 mm"]]; got {show(value)}')
     tol, pts = _tol(domain), []
     for i, item in enumerate(value):
         x, y = chk.point(item, key)
@@ -366,8 +408,8 @@ def _unique_name(chk: Checker, tbl: dict, key: str, seen: dict[str, str]) -> str
     name = chk.string(chk.require(tbl, key, "name", "give a unique name, e.g. \"plate\""),
                       f"{key}.name", "a name string")
     if name in seen:
-        chk.fail(f"{key}.name", f"name {name!r} is already used by {seen[name]}; names must be "
-                                "unique")
+        chk.fail(f"{key}.name", f"name {show(name)} is already used by {seen[name]}; names "
+                                "must be unique")
     seen[name] = key
     return name
 
@@ -440,7 +482,7 @@ def _flux_planes(chk: Checker, value: Any, domain: Domain,
 def _span(chk: Checker, value: Any, key: str, lo: float, hi: float, what: str) -> tuple:
     if not isinstance(value, list) or len(value) != 2:
         chk.fail(key, f'must be [min, max] with lengths, e.g. ["1 mm", "2 mm"]; allowed units: '
-                      f"{_units('length')}; got {value!r}")
+                      f"{_units('length')}; got {show(value)}")
     a, b = (chk.quantity(v, key, "length") for v in value)
     tol = 1e-9 * (hi - lo)
     if not b > a:
@@ -505,7 +547,7 @@ def build_case(raw: dict, path: str) -> dict[str, Any]:
     chk.table(raw, "", TOP_KEYS)
     title = raw.get("title", "")
     if not isinstance(title, str):
-        chk.fail("title", f"must be a string; got {title!r}")
+        chk.fail("title", f"must be a string; got {show(title)}")
     for name in ("gas", "domain", "boundaries"):
         chk.require(raw, "", name, f"the case needs a [{name}] section")
     gas = _species(chk, chk.table(raw["gas"], "gas", SECTION_KEYS["gas"]))
@@ -535,8 +577,13 @@ def build_case(raw: dict, path: str) -> dict[str, Any]:
 # ----------------------------------------------------------------------------- overrides
 
 _PART_RE = re.compile(r"([A-Za-z_][A-Za-z0-9_]*)(?:\[(\d+)\])?")
+# run.time_budget (a time) is listed apart from the run counts (integers)
+_HELP_GROUPS = [(s, tuple(k for k in keys if k != "time_budget"))
+                for s, keys in SECTION_KEYS.items()]
+_HELP_GROUPS.insert([s for s, _ in _HELP_GROUPS].index("run") + 1, ("run", ("time_budget",)))
 _OVERRIDE_HELP = (
-    "allowed: title; " + "; ".join(f"{s}.{{{','.join(k)}}}" for s, k in SECTION_KEYS.items())
+    "allowed: title; " + "; ".join(f"{s}.{{{','.join(k)}}}" if len(k) > 1 else f"{s}.{k[0]}"
+                                   for s, k in _HELP_GROUPS)
     + f"; boundaries.SIDE.KEY or boundaries.SIDE[i].KEY with SIDE in {{{','.join(SIDES)}}} and "
     f"KEY in {{{','.join(ALL_BOUNDARY_KEYS)}}}; "
     + "; ".join(f"{a}[i].{{{','.join(k)}}}" for a, k in ARRAY_KEYS.items())
@@ -548,7 +595,7 @@ def _override_value(value: object) -> object:
         return value
     try:
         doc = tomllib.loads(f"v = {value}")
-    except tomllib.TOMLDecodeError:
+    except ValueError:   # TOMLDecodeError, or an integer too long for Python to read
         return value
     return doc["v"] if list(doc) == ["v"] else value
 

@@ -26,7 +26,9 @@ from __future__ import annotations
 import math
 from dataclasses import asdict, dataclass, field
 
-from rarefy.case import Case
+import numpy as np
+
+from rarefy.case import Case, CaseError
 from rarefy.gas import kinetic
 from rarefy.gas.species import get_species
 
@@ -196,8 +198,65 @@ def histogram_speed_max(case: Case, mass_kg: float) -> float:
     return HISTOGRAM_SPEED_SPAN * vmp + max(speeds)
 
 
+# plan fields that must come out finite and > 0, and the case key that drives each
+_POSITIVE_FIELDS = {
+    "reference_number_density_m3": "pressure", "mean_free_path_m": "pressure",
+    "collision_time_s": "pressure", "viscosity_pa_s": "temperature",
+    "mean_speed_m_s": "temperature", "characteristic_length_m": "domain.characteristic_length",
+    "knudsen_number": "pressure", "rarefaction_parameter": "pressure",
+    "cell_dx_m": "resolution.cell_size", "cell_dy_m": "resolution.cell_size",
+    "time_step_s": "resolution.time_step", "particle_weight": "resolution.particle_weight",
+    "particles_per_cell": "resolution.particles_per_cell",
+    "expected_particles": "resolution.particles_per_cell",
+    "histogram_speed_max_m_s": "histograms.speed_max",
+}
+
+
+def _source_key(case: Case, quantity: str) -> str:
+    """Dotted key of the reference state's ``quantity`` ("pressure" or "temperature"); the
+    side alone when it is split into pieces (the case keeps them by position, not by their
+    order in the file)."""
+    _, _, src = reference_state(case)
+    if src == "initial fill":
+        return f"initial.{quantity}"
+    side = src.rsplit(" ", 1)[-1]
+    if len(case.side(side)) > 1:
+        return f"boundaries.{side}"
+    return f"boundaries.{side}.{quantity}"
+
+
 def make_plan(case: Case) -> Plan:
-    """Resolve the plan of ``case`` (overrides in the case win over automatic choices)."""
+    """Resolve the plan of ``case`` (overrides in the case win over automatic choices).
+
+    Raises
+    ------
+    CaseError
+        If the plan cannot be represented (a number that overflows or vanishes), naming
+        the key that drives it. The loader's ranges (``rarefy.case_schema.RANGES``) keep
+        every case file inside what the planner can represent, so this is a last check
+        for cases built in code.
+    """
+    try:
+        with np.errstate(all="ignore"):
+            plan = _resolve(case)
+    except (ArithmeticError, ValueError) as exc:
+        raise CaseError(case.source_path, _source_key(case, "pressure"),
+                        f"the plan cannot be computed ({exc}); keep pressures, "
+                        "temperatures and sizes within the ranges of docs/case-files.md") \
+            from None
+    for name, key in _POSITIVE_FIELDS.items():
+        value = float(getattr(plan, name))
+        if not (math.isfinite(value) and value > 0.0):
+            if key in ("pressure", "temperature"):
+                key = _source_key(case, key)
+            raise CaseError(case.source_path, key,
+                            f"gives a plan with {name} = {value:.3g}, which cannot be "
+                            "simulated; keep pressures, temperatures and sizes within the "
+                            "ranges of docs/case-files.md")
+    return plan
+
+
+def _resolve(case: Case) -> Plan:
     sp = get_species(case.gas.species)
     model = sp.model(case.gas.model)
     m = sp.mass_kg
@@ -222,6 +281,8 @@ def make_plan(case: Case) -> Plan:
         half = 0.5 * length
         target = half / math.ceil(half / target - 1e-9)
         # keep the grid within a laptop's reach; the warning says what it costs
+        if not (math.isfinite(target) and target > 0.0):
+            raise ArithmeticError(f"cell size {target!r} m")
         while (lx / target) * (ly / target) > MAX_CELLS_AUTO:
             target *= 1.25
         chosen["cell_size"] = "auto"

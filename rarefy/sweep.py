@@ -16,6 +16,7 @@ from concurrent.futures import ProcessPoolExecutor
 from pathlib import Path
 
 from rarefy.case import SIDES, CaseError, load_case
+from rarefy.guards import GuardError, check_plan
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -123,7 +124,9 @@ def _prepare(case_path, key, values, fixed, plane, seed):
         overrides = {**fixed, **{k: value for k in keys}}
         case = load_case(case_path, overrides)
         try:
-            make_plan(case)
+            check_plan(case, make_plan(case))
+        except (CaseError, GuardError) as exc:   # their messages name the file already
+            raise ValueError(f"{key}={value}: {exc}") from None
         except (ValueError, KeyError) as exc:
             raise ValueError(f"{case_path}: {key}={value}: {exc}") from None
         names = [fp.name for fp in case.flux_planes]

@@ -12,7 +12,7 @@ import re
 
 from rarefy.constants import ZERO_CELSIUS_K
 
-__all__ = ["UnitError", "KINDS", "UNITS", "parse_quantity", "format_quantity"]
+__all__ = ["UnitError", "KINDS", "UNITS", "parse_quantity", "format_quantity", "show"]
 
 
 class UnitError(ValueError):
@@ -34,7 +34,7 @@ UNITS: dict[str, dict[str, float]] = {
     },
     "temperature": {"K": 1.0, "degC": 1.0},
     "length": {"m": 1.0, "cm": 1e-2, "mm": 1e-3, "um": 1e-6, "nm": 1e-9},
-    "time": {"s": 1.0, "ms": 1e-3, "us": 1e-6, "ns": 1e-9},
+    "time": {"s": 1.0, "ms": 1e-3, "us": 1e-6, "ns": 1e-9, "min": 60.0, "h": 3600.0},
     "velocity": {"m/s": 1.0, "km/s": 1e3, "mm/s": 1e-3},
     "dimensionless": {},
 }
@@ -55,6 +55,15 @@ _DIVISORS = {"cm": 1e2, "mm": 1e3, "um": 1e6, "nm": 1e9, "ms": 1e3, "us": 1e6, "
 
 _NUMBER = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
 _QUANTITY_RE = re.compile(rf"^\s*({_NUMBER})\s*(\S*?)\s*$")
+
+
+def show(value: object, limit: int = 80) -> str:
+    """``repr(value)`` for a message, kept short: integers too large for 64 bits are
+    described by their length, long text is cut at ``limit`` characters."""
+    if isinstance(value, int) and not isinstance(value, bool) and value.bit_length() > 64:
+        return f"an integer of {int(value.bit_length() * math.log10(2)) + 1} digits"
+    text = repr(value)
+    return text if len(text) <= limit else text[: limit - 3] + "..."
 
 
 def _allowed(kind: str) -> str:
@@ -95,35 +104,39 @@ def parse_quantity(value: object, kind: str) -> float:
     _check_kind(kind)
     if isinstance(value, bool) or not isinstance(value, (int, float, str)):
         raise UnitError(
-            f"{value!r} is not a {kind} value; expected a number or a string "
+            f"{show(value)} is not a {kind} value; expected a number or a string "
             f"with a unit; allowed: {_allowed(kind)}"
         )
     if isinstance(value, (int, float)):
-        result = float(value)
+        try:
+            result = float(value)
+        except OverflowError:   # an integer beyond the float range
+            result = math.inf
         if not math.isfinite(result):
-            raise UnitError(f"{value!r} is not a finite {kind} value")
+            raise UnitError(f"{show(value)} is not a finite {kind} value")
         return result
 
     match = _QUANTITY_RE.match(value)
     if match is None:
         low = value.strip().lower()
         if any(word in low for word in ("nan", "inf")):
-            raise UnitError(f"{value!r} is not a finite {kind} value; allowed: {_allowed(kind)}")
+            raise UnitError(f"{show(value)} is not a finite {kind} value; "
+                            f"allowed: {_allowed(kind)}")
         raise UnitError(
-            f"{value!r} is not a valid {kind} value; write a number followed by "
+            f"{show(value)} is not a valid {kind} value; write a number followed by "
             f"a unit; allowed: {_allowed(kind)}"
         )
     number, unit = float(match.group(1)), match.group(2)
     if not math.isfinite(number):
-        raise UnitError(f"{value!r} is not a finite {kind} value; allowed: {_allowed(kind)}")
+        raise UnitError(f"{show(value)} is not a finite {kind} value; allowed: {_allowed(kind)}")
     if unit == "":
         return number
     unit = _ALIASES.get(kind, {}).get(unit, unit)
     units = UNITS[kind]
     if unit not in units:
         if not units:
-            raise UnitError(f"{value!r} must be a plain number without a unit")
-        raise UnitError(f"{value!r} has an unknown {kind} unit; allowed: {_allowed(kind)}")
+            raise UnitError(f"{show(value)} must be a plain number without a unit")
+        raise UnitError(f"{show(value)} has an unknown {kind} unit; allowed: {_allowed(kind)}")
     if kind == "temperature" and unit == "degC":
         return number + ZERO_CELSIUS_K
     if unit in _DIVISORS:
@@ -131,7 +144,7 @@ def parse_quantity(value: object, kind: str) -> float:
     else:
         result = number * units[unit]
     if not math.isfinite(result):
-        raise UnitError(f"{value!r} is not a finite {kind} value")
+        raise UnitError(f"{show(value)} is not a finite {kind} value")
     return result
 
 
