@@ -10,7 +10,9 @@ import json
 import logging
 import math
 import secrets
+import signal
 import sys
+import threading
 import time
 from pathlib import Path
 
@@ -44,12 +46,37 @@ def _load(case_path: str, sets: tuple[str, ...] = ()):
         raise InputError(str(exc)) from None
 
 
-def _plan(case):
+def _plan(case, time_budget_s: float | None = None):
+    """The plan of ``case`` after the guards (``rarefy.guards``); returns (plan, warnings)."""
+    from rarefy.guards import GuardError, check_plan
     from rarefy.plan import make_plan
     try:
-        return make_plan(case)
+        plan = make_plan(case)
+    except CaseError as exc:
+        raise InputError(str(exc)) from None
     except (ValueError, KeyError) as exc:
         raise InputError(f"{case.source_path}: {exc}") from None
+    try:   # a GuardError is a ValueError with the path already in its message
+        warnings = check_plan(case, plan, time_budget_s=time_budget_s)
+    except GuardError as exc:
+        raise InputError(str(exc)) from None
+    return plan, warnings
+
+
+def _time_budget(value: str | None) -> float | None:
+    if value is None:
+        return None
+    try:
+        seconds = parse_quantity(value, "time")
+    except UnitError as exc:
+        raise InputError(f"--time-budget: {exc}") from None
+    if not seconds > 0.0:
+        raise InputError(f"--time-budget: must be > 0, e.g. '2 h'; got {value!r}")
+    return seconds
+
+
+TIME_BUDGET_HELP = ("Refuse a plan whose estimated run time exceeds this, e.g. '30 min' "
+                    "(overrides the case's run.time_budget).")
 
 
 def _rundir(path: str) -> Path:
@@ -154,61 +181,81 @@ def new(kind, output, gas, temperature, pressure, upstream_pressure, downstream_
 @click.option("--set", "sets", multiple=True, metavar="KEY=VALUE",
               help="Override a case key, e.g. --set initial.pressure='2 Pa'.")
 @click.option("--json", "as_json", is_flag=True, help="Print the plan as JSON.")
-def check(case_file, sets, as_json):
+@click.option("--time-budget", "time_budget", default=None, metavar="TIME",
+              help=TIME_BUDGET_HELP)
+def check(case_file, sets, as_json, time_budget):
     """Validate a case and print its plan and resolution diagnostics."""
     from rarefy.plan import format_plan
 
     case = _load(case_file, sets)
-    plan = _plan(case)
+    plan, warnings = _plan(case, _time_budget(time_budget))
     if as_json:
-        click.echo(json.dumps(plan.to_dict(), indent=2))
+        click.echo(json.dumps({**plan.to_dict(), "guard_warnings": warnings}, indent=2))
     else:
         click.echo(format_plan(plan))
+        for w in warnings:
+            click.echo(f"warning: {w}")
 
 
 # ------------------------------------------------------------------------------------- run
-def _progress(quiet: bool):
-    start = time.time()
+def _resume_state(case, rundir: Path, seed: int | None):
+    """(seed, snapshot) from RUNDIR's checkpoint, after checking it belongs to ``case``."""
+    from rarefy.io.checkpoint import CHECKPOINT_NAME, CheckpointError, read_checkpoint
+    from rarefy.io.result import RESULT_NAME
 
-    def report(phase, done, total, sim):
-        if quiet:
-            return
-        st = sim.coll_stats[0]
-        log.info("%-8s step %6d/%d  particles %8d  collisions/step %8d  %.0f s",
-                 phase, done, total, sim.store.n, st, time.time() - start)
-    return report
+    ck = rundir / CHECKPOINT_NAME
+    if not ck.exists():
+        if (rundir / RESULT_NAME).exists():
+            raise InputError(f"--resume: {rundir} holds a finished result and no checkpoint; "
+                             "nothing to resume (start a new run in another folder)")
+        raise InputError(f"--resume: no checkpoint in {rundir} (expected {ck}); start the "
+                         "run without --resume")
+    try:
+        meta, snap = read_checkpoint(ck)
+    except CheckpointError as exc:
+        raise InputError(f"--resume: {exc}") from None
+    if meta["case_text"] != case.source_text or \
+            list(meta["case_overrides"]) != [tuple(kv) for kv in case.overrides]:
+        raise InputError(f"--resume: the case file or its --set overrides differ from those "
+                         f"of the checkpointed run in {rundir}; resume with the same case "
+                         f"and --set options (the run's case is in {rundir / 'case.toml'})")
+    if seed is not None and seed != meta["seed"]:
+        raise InputError(f"--seed {seed}: the checkpointed run uses seed {meta['seed']}; "
+                         "leave --seed out when resuming")
+    return meta["seed"], snap
 
 
 def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
             target_error: float | None = None, max_steps: int | None = None,
-            plane: str | None = None) -> Path:
+            plane: str | None = None, resume: bool = False,
+            checkpoint_every_s: float = 60.0, time_budget_s: float | None = None) -> Path:
     """Run ``case`` into ``rundir``; returns the result file path.
 
     ``target_error``: keep sampling until the relative standard error of the flow
     through flux plane ``plane`` (default ``throat``, else the first) reaches it, or
-    the run has taken ``max_steps`` steps.
+    the run has taken ``max_steps`` steps. A checkpoint (and a partial result) is
+    written at the first segment start after every ``checkpoint_every_s`` seconds and
+    when the run is stopped by SIGINT or SIGTERM; ``resume`` continues from it.
     """
-    from rarefy.engine.simulation import Simulation
+    from rarefy.engine.simulation import RunStopped, Simulation
+    from rarefy.io.checkpoint import CHECKPOINT_NAME, write_checkpoint
     from rarefy.io.result import RESULT_NAME, write_result
+    from rarefy.progress import Progress
 
-    plan = _plan(case)
+    plan, guard_warnings = _plan(case, time_budget_s)
+    snap = None
+    if resume:
+        seed, snap = _resume_state(case, rundir, seed)
     if seed is None:
         seed = case.run.seed if case.run.seed is not None else secrets.randbits(31)
     rundir.mkdir(parents=True, exist_ok=True)
-    (rundir / "case.toml").write_text(case.source_text)
-    if case.overrides:   # what --set changed, so the run can be repeated exactly
-        _write_json(rundir / "case-overrides.json", dict(case.overrides))
-    if not quiet:
-        log.info("planned %d x %d cells, about %.3g particles, %d + %d steps, seed %d",
-                 plan.nx, plan.ny, plan.expected_particles, plan.settle_steps,
-                 plan.sample_steps, seed)
-        for w in plan.warnings():
-            log.warning("warning: %s", w)
-    sim = Simulation(case, plan, seed)
-    every = max(1, (plan.settle_steps + plan.sample_steps) // 20)
+    if not resume:
+        (rundir / "case.toml").write_text(case.source_text)
+        if case.overrides:   # what --set changed, so the run can be repeated exactly
+            _write_json(rundir / "case-overrides.json", dict(case.overrides))
+    names = [fp.name for fp in case.flux_planes]
     plane_index = 0
     if target_error is not None:
-        names = [fp.name for fp in case.flux_planes]
         if not names:
             raise InputError(f"{case.source_path}: --target-error needs a flux plane; the "
                              "case has none")
@@ -219,19 +266,67 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
         plane_index = names.index(plane)
         if max_steps is None:
             max_steps = 20 * (plan.settle_steps + plan.sample_steps)
-    try:
-        sim.run(_progress(quiet), every=every, target_error=target_error, plane=plane_index,
-                max_steps=max_steps)
+    if not quiet:
+        log.info("planned %d x %d cells, about %.3g particles, %d + %d steps, seed %d",
+                 plan.nx, plan.ny, plan.expected_particles, plan.settle_steps,
+                 plan.sample_steps, seed)
+        for w in plan.warnings() + guard_warnings:
+            log.warning("warning: %s", w)
+    sim = Simulation(case, plan, seed)
+    if snap is not None:
+        sim.restore(snap)
         if not quiet:
-            log.info("stopped: %s", sim.stop_reason)
-    except KeyboardInterrupt:
-        if sim.acc.batch >= 2:
-            path = write_result(rundir / RESULT_NAME, sim, interrupted=True)
-            log.warning("interrupted: wrote %d completed batches to %s", sim.acc.batch, path)
-        else:
-            log.warning("interrupted before two sampling batches were complete; no result")
-        raise SystemExit(130)
-    return write_result(rundir / RESULT_NAME, sim)
+            log.info("resumed from %s at step %d", rundir / CHECKPOINT_NAME, sim.clock.step)
+    shown = plane_index if names else None
+    progress = None if quiet else Progress(shown, names[shown] if names else "")
+    every = 1 if progress and progress.tty else \
+        max(1, (plan.settle_steps + plan.sample_steps) // 20)
+    last = [time.monotonic()]
+
+    def save(s, status: str) -> None:
+        write_checkpoint(rundir / CHECKPOINT_NAME, s)
+        if s.acc.batch >= 2:
+            write_result(rundir / RESULT_NAME, s, interrupted=True, status=status)
+
+    def checkpoint(s) -> None:
+        if time.monotonic() - last[0] >= checkpoint_every_s:
+            save(s, f"running: partial result at step {s.clock.step}")
+            last[0] = time.monotonic()
+
+    signals = {}
+
+    def request_stop(signum, frame):
+        if signals.get("stop") == signal.SIGINT and signum == signal.SIGINT:
+            raise KeyboardInterrupt   # a second Ctrl-C stops at once
+        signals["stop"] = signum
+
+    old = {sig: signal.signal(sig, request_stop) for sig in (signal.SIGINT, signal.SIGTERM)} \
+        if threading.current_thread() is threading.main_thread() else {}
+    sim.stop_check = lambda: "stop" in signals
+    try:
+        sim.run(progress, every=every, target_error=target_error, plane=plane_index,
+                max_steps=max_steps, checkpoint=checkpoint)
+    except RunStopped:
+        if progress:
+            progress.close()
+        save(sim, f"stopped at step {sim.clock.step} (signal); resume with --resume")
+        log.warning("stopped at step %d: checkpoint in %s%s; continue with "
+                    "`rarefy run CASE -o %s --resume`", sim.clock.step,
+                    rundir / CHECKPOINT_NAME,
+                    f", partial result of {sim.acc.batch} batches in {rundir / RESULT_NAME}"
+                    if sim.acc.batch >= 2 else "", rundir)
+        raise SystemExit(128 + int(signals["stop"]))
+    finally:
+        for sig, handler in old.items():
+            signal.signal(sig, handler)
+    if progress:
+        progress.close()
+    if not quiet:
+        log.info("settling: %s", sim.settle_reason)
+        log.info("stopped: %s", sim.stop_reason)
+    path = write_result(rundir / RESULT_NAME, sim)
+    (rundir / CHECKPOINT_NAME).unlink(missing_ok=True)
+    return path
 
 
 @cli.command()
@@ -249,14 +344,27 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
 @click.option("--max-steps", type=click.IntRange(1), default=None,
               help="Step cap for --target-error [default: 20 x the planned steps].")
 @click.option("--plane", default=None, help="Flux plane for --target-error.")
-@click.option("-q", "--quiet", is_flag=True, help="No progress lines.")
-def run(case_file, output, seed, sets, target_error, max_steps, plane, quiet):
-    """Run a case: settle, sample, write RUNDIR/result.h5 and print the summary."""
+@click.option("--resume", is_flag=True,
+              help="Continue the run in RUNDIR from its checkpoint (same case and --set).")
+@click.option("--checkpoint-every", "checkpoint_every", type=click.FloatRange(0.0),
+              default=60.0, show_default=True, metavar="SECONDS",
+              help="Write a checkpoint and a partial result this often (wall time).")
+@click.option("--time-budget", "time_budget", default=None, metavar="TIME",
+              help=TIME_BUDGET_HELP)
+@click.option("-q", "--quiet", is_flag=True, help="No progress display.")
+def run(case_file, output, seed, sets, target_error, max_steps, plane, resume,
+        checkpoint_every, time_budget, quiet):
+    """Run a case: settle, sample, write RUNDIR/result.h5 and print the summary.
+
+    Progress goes to stderr (a bar on a terminal, a line every 5 % otherwise). Ctrl-C or
+    SIGTERM stops after the current step, writes a checkpoint and the batches done so
+    far; `--resume` continues from the checkpoint."""
     from rarefy.report import format_report, load_report
 
     case = _load(case_file, sets)
     rundir = _rundir(output)
-    path = execute(case, rundir, seed, quiet, target_error, max_steps, plane)
+    path = execute(case, rundir, seed, quiet, target_error, max_steps, plane, resume,
+                   checkpoint_every, _time_budget(time_budget))
     rep = load_report(rundir)
     _write_json(rundir / "summary.json", rep)
     click.echo(format_report(rep))
@@ -276,10 +384,23 @@ def _json_default(o):
 
 
 def _result_dir(rundir: str) -> Path:
+    """The run folder (or result file) after checking that a readable result is there."""
+    import h5py
+
+    from rarefy.io.result import FORMAT
+
     p = Path(rundir)
     f = p / "result.h5" if p.is_dir() else p
     if not f.is_file():
         raise InputError(f"{rundir}: no result.h5 here (run `rarefy run CASE -o {rundir}`)")
+    try:
+        with h5py.File(f, "r") as h:
+            found = h.attrs.get("format")
+    except OSError:
+        raise InputError(f"{f}: not an HDF5 result file") from None
+    if found != FORMAT:
+        raise InputError(f"{f}: result format {found!r}; this rarefy reads {FORMAT!r} "
+                         "(run the case again)")
     return p
 
 
@@ -381,10 +502,12 @@ def demo(output, seed, quiet):
 
 def _register() -> None:
     from rarefy.cli_estimate import estimate
+    from rarefy.cli_export import export
     from rarefy.cli_speeds import speeds
     from rarefy.cli_sweep import sweep
     from rarefy.cli_tof import tof
     cli.add_command(estimate)
+    cli.add_command(export)
     cli.add_command(speeds)
     cli.add_command(sweep)
     cli.add_command(tof)

@@ -16,12 +16,14 @@ import numpy as np
 from rarefy.case import SIDES, Case
 from rarefy.constants import K_B
 from rarefy.engine.particles import VX, VY, VZ, X, Y, ParticleStore
+from rarefy.engine.steady import SteadyDetector
 from rarefy.gas import kinetic
 from rarefy.gas.species import get_species
 from rarefy.geometry.cutcell import mask_inside_solids
 from rarefy.geometry.planar import Geometry, build_geometry
 from rarefy.geometry.probes import build_probes
 from rarefy.kernels.collide import collide_cells
+from rarefy.kernels.config import F_N_NEG, F_N_POS
 from rarefy.kernels.index import counting_sort
 from rarefy.kernels.inject import N_INFLOW_COLS, inject, seed_generator
 from rarefy.kernels.move import compute_keys, move_all
@@ -31,9 +33,31 @@ from rarefy.plan import Plan
 from rarefy.post.fields import fields_from_moments
 from rarefy.sampling.accumulators import Accumulators
 
-__all__ = ["Simulation", "PHASES"]
+__all__ = ["Simulation", "PHASES", "RunStopped", "RESEED_EVERY"]
 
 PHASES = ("inject", "move", "index", "collide", "sample")
+# The kernels' random stream is re-seeded every RESEED_EVERY steps from (seed, step), so
+# a run resumed from a checkpoint taken at such a step repeats the uninterrupted run bit
+# for bit, whatever process it runs in.
+RESEED_EVERY = 100
+MAX_SETTLE_FACTOR = 4
+# accumulator arrays a checkpoint carries
+ACC_ARRAYS = ("cell_batch", "cell_total", "surf", "flux", "collisions", "particles",
+              "probe_mom", "probe_hist")
+
+
+def segment_seed(seed: int, step: int) -> int:
+    """Seed of the random-stream segment that starts at ``step`` (numpy SeedSequence
+    mixing of the run seed and the step, 32 bits)."""
+    return int(np.random.SeedSequence([int(seed), int(step)]).generate_state(1)[0])
+
+
+class RunStopped(Exception):
+    """Raised after a complete step when ``Simulation.stop_check()`` asks to stop."""
+
+    def __init__(self, step: int):
+        super().__init__(f"stopped after step {step}")
+        self.step = step
 
 
 @dataclass
@@ -92,6 +116,12 @@ class Simulation:
         self._no_surf = np.zeros((0, 7))
         self._no_flux = np.zeros(self.acc.flux.shape[1:])
         self._dummy_surf = np.zeros((len(g.facet_owner), 7))
+        self.detector = SteadyDetector()
+        self.stop_check: Callable[[], bool] | None = None
+        self._window_particles = 0.0
+        self.sample_start_step: int | None = None
+        self.settle_reason = ""
+        self.stop_reason = ""
         seed_generator(self.seed % (2 ** 32))
         self._fill_initial()
 
@@ -179,9 +209,12 @@ class Simulation:
         st.swap()
 
     # ------------------------------------------------------------------ the loop
-    def step(self, sampling: bool) -> None:
-        """Advance one time step; tally into the current batch when ``sampling``."""
+    def step(self, sampling: bool, watch: bool = False) -> None:
+        """Advance one time step; tally into the current batch when ``sampling``, or only
+        the surface and flux-plane tallies into scratch arrays when ``watch`` (settling)."""
         st, g, acc, ph = self.store, self.geom, self.acc, self.clock.phase_seconds
+        if self.clock.step % RESEED_EVERY == 0:
+            seed_generator(segment_seed(self.seed, self.clock.step))
         t0 = time.perf_counter()
         n0 = st.n
         st.reserve(n0 + self.inflow_max)
@@ -192,19 +225,20 @@ class Simulation:
         t1 = time.perf_counter()
         stally = acc.surf[acc.batch] if sampling else self._dummy_surf
         ftally = acc.flux[acc.batch] if sampling else self._no_flux
+        tally = sampling or watch
         if self.axi:
             st.reserve(n1 + max(4096, n1 // 4))
             s = st.state
             st.n, lost = move_all_axi(
                 n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key, g.segs,
                 g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows, stally, ftally,
-                sampling, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free, g.row_weight,
+                tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free, g.row_weight,
                 st.capacity, self.row_balance)
             self.lost_duplicates += lost
         else:
             move_all(n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key,
                      g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows, stally,
-                     ftally, sampling, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free)
+                     ftally, tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free)
         t2 = time.perf_counter()
         self._sort()
         s = st.state
@@ -243,28 +277,70 @@ class Simulation:
     def _batch_fields(self, sums: np.ndarray, nsteps: int) -> dict:
         return fields_from_moments(sums, nsteps, self.geom.volume, self.mass, self.cell_fnum)
 
+    def _after_step(self, phase: str, done: int, total: int, progress, every: int,
+                    checkpoint) -> None:
+        if progress and done % every == 0:
+            progress(phase, done, total, self)
+        if checkpoint and self.clock.step % RESEED_EVERY == 0:
+            checkpoint(self)
+        if self.stop_check is not None and self.stop_check():
+            raise RunStopped(self.clock.step)
+
+    def _settle(self, progress, every: int, checkpoint) -> None:
+        """Settling: the planned steps, then on in windows until the particle count and
+        the flux-plane flows are steady (``rarefy.engine.steady``), at most
+        MAX_SETTLE_FACTOR times the plan. A settle step count set in the case is kept
+        exactly."""
+        planned = self.plan.settle_steps
+        fixed = self.plan.chosen.get("settle_steps") == "case"
+        limit = planned if fixed else MAX_SETTLE_FACTOR * planned
+        window = max(10, planned // 10)
+        det = self.detector
+        self.settle_reason = "settle steps set in the case"
+        while self.clock.step < limit:
+            if not fixed and self.clock.step >= planned and self.clock.step % window == 0 \
+                    and det.steady():
+                self.settle_reason = (f"steady state detected after {self.clock.step} "
+                                      f"steps (planned at least {planned})")
+                break
+            self.step(False, watch=not fixed)
+            self._window_particles += self.store.n
+            if not fixed and self.clock.step % window == 0:
+                f = self._no_flux
+                det.add_window(self._window_particles / window,
+                               (f[:, F_N_POS] - f[:, F_N_NEG]) / window)
+                self._window_particles = 0.0
+                f[:] = 0.0
+            shown = planned if self.clock.step <= planned else limit
+            self._after_step("settling", self.clock.step, shown, progress, every, checkpoint)
+        else:
+            if not fixed:
+                self.settle_reason = (f"steady state not detected within {limit} steps "
+                                      f"({MAX_SETTLE_FACTOR} x the plan); sampling anyway")
+        self.sample_start_step = self.clock.step
+
     def run(self, progress: Callable[[str, int, int, "Simulation"], None] | None = None,
             every: int = 100, target_error: float | None = None, plane: int = 0,
-            max_steps: int | None = None) -> Accumulators:
-        """Settle for ``plan.settle_steps``, then sample until every batch is full.
+            max_steps: int | None = None,
+            checkpoint: Callable[["Simulation"], None] | None = None) -> Accumulators:
+        """Settle (see :meth:`_settle`), then sample until every batch is full.
 
         With ``target_error``, sampling goes on in batches of the same length until the
         relative standard error of the net flow through flux plane ``plane`` is at most
         the target, or the run has taken ``max_steps`` steps. ``self.stop_reason`` says
-        which rule ended the run.
+        which rule ended the run. ``checkpoint(sim)`` is called at every step that starts
+        a random-stream segment (it decides whether to write). A simulation restored from
+        a checkpoint continues where it stopped.
         """
-        total_settle = self.plan.settle_steps
-        while self.clock.step < total_settle:
-            self.step(False)
-            if progress and self.clock.step % every == 0:
-                progress("settling", self.clock.step, total_settle, self)
+        if self.sample_start_step is None:
+            self._settle(progress, every, checkpoint)
         self.stop_reason = "planned sampling steps done"
         while True:
             sample_total = self.acc.batches * self.acc.steps_per_batch
             while not self.acc.done:
                 self.step(True)
-                if progress and self.acc.steps_sampled % every == 0:
-                    progress("sampling", self.acc.steps_sampled, sample_total, self)
+                self._after_step("sampling", self.acc.steps_sampled, sample_total, progress,
+                                 every, checkpoint)
             if target_error is None:
                 return self.acc
             rel = self.acc.relative_error(plane)
@@ -281,3 +357,61 @@ class Simulation:
             need = math.ceil(self.acc.batch * (rel / target_error) ** 2 * 1.05) \
                 - self.acc.batch if math.isfinite(rel) else self.acc.batch
             self.acc.extend(int(min(max(need, 1), room)))
+
+    # ------------------------------------------------------------------ checkpoints
+    def snapshot(self) -> dict:
+        """Everything a checkpoint needs to continue this run (arrays and scalars)."""
+        st, acc, ck = self.store, self.acc, self.clock
+        return {
+            "state": st.state[:, : st.n].copy(),
+            "remainder": self.remainder, "sigcr_max": self.sigcr_max,
+            "row_balance": self.row_balance, "watch_flux": self._no_flux,
+            "settle_history": self.detector.summary()["history"],
+            "acc": {k: getattr(acc, k) for k in ACC_ARRAYS},
+            "field_sum": acc.field_sum, "field_sumsq": acc.field_sumsq,
+            "field_count": acc.field_count,
+            "scalars": {
+                "step": ck.step, "time_s": ck.time_s, "particle_steps": ck.particle_steps,
+                "phase_seconds": dict(ck.phase_seconds), "lost_duplicates": self.lost_duplicates,
+                "window_particles": self._window_particles,
+                "sample_start_step": -1 if self.sample_start_step is None
+                else self.sample_start_step,
+                "settle_reason": getattr(self, "settle_reason", ""),
+                "batches": acc.batches, "batch": acc.batch, "step_in_batch": acc.step_in_batch,
+                "steps_per_batch": acc.steps_per_batch,
+            },
+        }
+
+    def restore(self, snap: dict) -> None:
+        """Continue from a :meth:`snapshot` (of a run of the same case, plan and seed)."""
+        sc, acc, ck = snap["scalars"], self.acc, self.clock
+        state = snap["state"]
+        self.store.n = 0
+        self.store.reserve(state.shape[1] + self.inflow_max)
+        self.store.state[:, : state.shape[1]] = state
+        self.store.n = state.shape[1]
+        self.remainder[:] = snap["remainder"]
+        self.sigcr_max[:] = snap["sigcr_max"]
+        self.row_balance[:] = snap["row_balance"]
+        self._no_flux[:] = snap["watch_flux"]
+        for row in snap["settle_history"]:
+            self.detector.rows.append(np.asarray(row, dtype=float))
+        acc.batches = int(sc["batches"])
+        for k in ACC_ARRAYS:
+            setattr(acc, k, np.array(snap["acc"][k]))
+        acc.batch, acc.step_in_batch = int(sc["batch"]), int(sc["step_in_batch"])
+        acc.steps_per_batch = int(sc["steps_per_batch"])
+        for name in ("field_sum", "field_sumsq", "field_count"):
+            setattr(acc, name, {k: np.array(v) for k, v in snap[name].items()})
+        ck.step, ck.time_s = int(sc["step"]), float(sc["time_s"])
+        ck.particle_steps = int(sc["particle_steps"])
+        ck.phase_seconds.update(sc["phase_seconds"])
+        self.lost_duplicates = int(sc["lost_duplicates"])
+        self._window_particles = float(sc["window_particles"])
+        start = int(sc["sample_start_step"])
+        self.sample_start_step = None if start < 0 else start
+        self.settle_reason = sc["settle_reason"]
+        self._index()
+        # a checkpoint taken between segment starts continues on a stream of its own
+        if ck.step % RESEED_EVERY:
+            seed_generator(segment_seed(self.seed, ck.step))

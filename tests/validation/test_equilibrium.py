@@ -385,3 +385,35 @@ def test_closed_box_with_walls_keeps_every_particle():
             assert int(np.sum(y > np.interp(x, *DIVIDER))) == above0
     print(f"\nclosed box: {n0} particles kept over 10^4 steps ({collisions:.0f} collisions)")
     assert collisions > n0                     # the gas is not collisionless
+
+
+def test_leak_over_10_8_wall_interactions():
+    # exact, as above, at scale: 10^8 molecule-wall interactions (counted by the surface
+    # tallies) on oblique walls, a divider corner, a vane and a solid triangle, with
+    # diffuse, specular and partly accommodating surfaces. Flights of about the box size
+    # per step (25 us at 400 m/s) give about two wall events per molecule and step.
+    from rarefy.kernels.config import T_HITS
+    case = parse_case(CLOSED_BOX.replace('time_step = "5 us"', 'time_step = "25 us"'))
+    plan = make_plan(case)
+    plan = dataclasses.replace(plan, particle_weight=plan.expected_particles
+                               * plan.particle_weight / 40_000.0, expected_particles=4e4)
+    sim = Simulation(case, plan, 2027)
+    n0 = sim.store.n
+    s = sim.store.state
+    above0 = int(np.sum(s[1, :n0] > np.interp(s[0, :n0], *DIVIDER)))
+    hits = 0.0
+    steps = 0
+    while hits < 1e8:
+        sim._dummy_surf[:] = 0.0
+        for _ in range(100):
+            sim.step(False, watch=True)
+        steps += 100
+        hits += sim._dummy_surf[:, T_HITS].sum()
+        n = sim.store.n
+        x, y = sim.store.state[0, :n], sim.store.state[1, :n]
+        assert n == n0, f"step {steps}: {n0 - n} particles lost"
+        assert np.all((x >= 0.0) & (x <= L) & (y >= 0.0) & (y <= L))
+        assert not _inside_triangle(x, y).any()
+        assert int(np.sum(y > np.interp(x, *DIVIDER))) == above0
+    print(f"\nleak test: {hits:.3g} wall interactions in {steps} steps, {n0} particles, "
+          "none lost")
