@@ -9,8 +9,11 @@ line naming the case file, the key to change and what the estimate was) when
   :data:`MAX_SUBCELL_KEYS` collision sub-cells;
 * the plan needs more than :data:`MAX_STEPS` steps;
 * a user-set time step lets a molecule at the mean speed fly across more than
-  :data:`MAX_TRANSIT_FRACTION` cells in one step (between 1 and 2 the plan only
-  warns, see :meth:`rarefy.plan.Plan.warnings`);
+  :data:`MAX_TRANSIT_FRACTION` cells in one step while the step is more than
+  :data:`MAX_COLLISIONAL_DT_OVER_TAU` of the mean collision time, so that collisions
+  would be placed cells away from where they belong (between 1 and 2 cells the plan
+  only warns, see :meth:`rarefy.plan.Plan.warnings`; in nearly free-molecular flow long
+  flights are harmless and allowed);
 * the estimated wall time exceeds a time budget (``time_budget_s``, or the case key
   ``run.time_budget``).
 
@@ -35,6 +38,7 @@ __all__ = [
     "MAX_STEPS",
     "MAX_SUBCELL_KEYS",
     "MAX_TRANSIT_FRACTION",
+    "MAX_COLLISIONAL_DT_OVER_TAU",
     "STORE_HEADROOM",
     "GuardError",
     "check_plan",
@@ -69,6 +73,7 @@ ASSUMED_PARTICLE_STEPS_PER_S = 5e6
 MAX_CELLS = 5_000_000            # cells of the sampling grid
 MAX_SUBCELL_KEYS = 50_000_000    # cells x subcells^2 (400 MB of sort keys)
 MAX_TRANSIT_FRACTION = 2.0       # cells crossed per step at the mean speed
+MAX_COLLISIONAL_DT_OVER_TAU = 0.05   # ... when a step is this much of a collision time
 MAX_STEPS = 10 ** 9              # settle + sample steps (beyond any run that could finish)
 LONG_RUN_S = 86400.0             # without a time budget, warn beyond a day
 NEAR_BUDGET = 0.5                # warn when an estimate passes this share of its budget
@@ -235,7 +240,10 @@ def check_plan(case: Case, plan: Plan, *, memory_budget_bytes: float | None = No
 
     # time step
     transit = plan.transit_fraction
-    if not transit <= MAX_TRANSIT_FRACTION:
+    # only where collisions happen within a flight: in nearly free-molecular flow a long
+    # flight crosses cells harmlessly (the move follows it through every cell and wall)
+    if not transit <= MAX_TRANSIT_FRACTION and \
+            not plan.dt_over_tau <= MAX_COLLISIONAL_DT_OVER_TAU:
         raise GuardError(path, "resolution.time_step",
                          f"time step {plan.time_step_s:.4g} s lets a molecule at the mean "
                          f"speed ({plan.mean_speed_m_s:.4g} m/s) cross {transit:.3g} cells "

@@ -161,6 +161,17 @@ def test_time_step_crossing_several_cells_is_refused():
     assert f"<= {crossing:.3g} s" in exc.message
 
 
+def test_long_flights_are_allowed_in_nearly_free_molecular_flow():
+    # at 1e-3 Pa the mean free path is metres: a step of 16 cells is 1e-4 collision times
+    text = slit_case(upstream_pressure_pa=1e-3)
+    _, plan = planned(text)
+    crossing = min(plan.cell_dx_m, plan.cell_dy_m) / plan.mean_speed_m_s
+    case, plan = planned(with_section(text, "resolution",
+                                      f"time_step = {float(16.0 * crossing)!r}"))
+    assert plan.transit_fraction > 2.0 and plan.dt_over_tau < 0.05
+    check_plan(case, plan, memory_budget_bytes=8 * GIB)
+
+
 def test_time_step_crossing_one_to_two_cells_warns():
     _, plan = planned(slit_case())
     crossing = min(plan.cell_dx_m, plan.cell_dy_m) / plan.mean_speed_m_s
