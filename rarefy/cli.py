@@ -228,14 +228,17 @@ def _resume_state(case, rundir: Path, seed: int | None):
 def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
             target_error: float | None = None, max_steps: int | None = None,
             plane: str | None = None, resume: bool = False,
-            checkpoint_every_s: float = 60.0, time_budget_s: float | None = None) -> Path:
+            checkpoint_every_s: float = 60.0, time_budget_s: float | None = None,
+            checkpoint_steps: int | None = None) -> Path:
     """Run ``case`` into ``rundir``; returns the result file path.
 
     ``target_error``: keep sampling until the relative standard error of the flow
     through flux plane ``plane`` (default ``throat``, else the first) reaches it, or
     the run has taken ``max_steps`` steps. A checkpoint (and a partial result) is
-    written at the first segment start after every ``checkpoint_every_s`` seconds and
-    when the run is stopped by SIGINT or SIGTERM; ``resume`` continues from it.
+    written at the first segment start (every RESEED_EVERY steps) after every
+    ``checkpoint_every_s`` seconds, or after every ``checkpoint_steps`` steps when that
+    is given, and when the run is stopped by SIGINT or SIGTERM; ``resume`` continues
+    from it.
     """
     from rarefy.engine.simulation import RunStopped, Simulation
     from rarefy.io.checkpoint import CHECKPOINT_NAME, write_checkpoint
@@ -281,7 +284,7 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
     progress = None if quiet else Progress(shown, names[shown] if names else "")
     every = 1 if progress and progress.tty else \
         max(1, (plan.settle_steps + plan.sample_steps) // 20)
-    last = [time.monotonic()]
+    last = [time.monotonic(), sim.clock.step]
 
     def save(s, status: str) -> None:
         write_checkpoint(rundir / CHECKPOINT_NAME, s)
@@ -289,9 +292,11 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
             write_result(rundir / RESULT_NAME, s, interrupted=True, status=status)
 
     def checkpoint(s) -> None:
-        if time.monotonic() - last[0] >= checkpoint_every_s:
+        due = s.clock.step - last[1] >= checkpoint_steps if checkpoint_steps else \
+            time.monotonic() - last[0] >= checkpoint_every_s
+        if due:
             save(s, f"running: partial result at step {s.clock.step}")
-            last[0] = time.monotonic()
+            last[0], last[1] = time.monotonic(), s.clock.step
 
     signals = {}
 
@@ -349,11 +354,14 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
 @click.option("--checkpoint-every", "checkpoint_every", type=click.FloatRange(0.0),
               default=60.0, show_default=True, metavar="SECONDS",
               help="Write a checkpoint and a partial result this often (wall time).")
+@click.option("--checkpoint-steps", "checkpoint_steps", type=click.IntRange(1), default=None,
+              metavar="N", help="Instead: a checkpoint every N steps (taken at the next "
+                                "multiple of 100).")
 @click.option("--time-budget", "time_budget", default=None, metavar="TIME",
               help=TIME_BUDGET_HELP)
 @click.option("-q", "--quiet", is_flag=True, help="No progress display.")
 def run(case_file, output, seed, sets, target_error, max_steps, plane, resume,
-        checkpoint_every, time_budget, quiet):
+        checkpoint_every, checkpoint_steps, time_budget, quiet):
     """Run a case: settle, sample, write RUNDIR/result.h5 and print the summary.
 
     Progress goes to stderr (a bar on a terminal, a line every 5 % otherwise). Ctrl-C or
@@ -364,7 +372,7 @@ def run(case_file, output, seed, sets, target_error, max_steps, plane, resume,
     case = _load(case_file, sets)
     rundir = _rundir(output)
     path = execute(case, rundir, seed, quiet, target_error, max_steps, plane, resume,
-                   checkpoint_every, _time_budget(time_budget))
+                   checkpoint_every, _time_budget(time_budget), checkpoint_steps)
     rep = load_report(rundir)
     _write_json(rundir / "summary.json", rep)
     click.echo(format_report(rep))

@@ -51,6 +51,8 @@ def build_report(r: ResultData) -> dict:
         "mean_free_path_m": p["mean_free_path_m"],
         "steps": r.attrs["steps"],
         "stop_reason": r.attrs.get("stop_reason", ""),
+        "sample_start_step": r.attrs.get("sample_start_step"),
+        "settle_reason": r.attrs.get("settle_reason", ""),
         "sampled_steps": r.batches * r.steps_per_batch,
         "batches": r.batches,
         "time_step_s": r.attrs["time_step_s"],
@@ -89,6 +91,8 @@ def format_report(rep: dict) -> str:
         f"  gas {rep['gas']} ({rep['model'].upper()}), seed {rep['seed']}, "
         f"{rep['sampled_steps']} sampled steps in {rep['batches']} batches"
         + ("  [INTERRUPTED: partial sampling]" if rep["interrupted"] else ""),
+        f"  sampling began at step {rep['sample_start_step']}"
+        + (f" ({rep['settle_reason']})" if rep.get("settle_reason") else ""),
         f"  stopped: {rep['stop_reason']}",
         f"  reference: {rep['reference_pressure_pa']:.4g} Pa, "
         f"{rep['reference_temperature_k']:.4g} K, mean free path "
