@@ -1,8 +1,7 @@
 """`rarefy estimate`: analytic free-molecular and continuum limits, no simulation.
 
 Register with ``cli.add_command(estimate)``. Every input error is one line, exit 2
-(:class:`rarefy.cli_errors.InputError`, imported when needed so that ``rarefy.cli`` may import
-this module at any point).
+(:class:`rarefy.cli_errors.InputError`).
 """
 
 from __future__ import annotations
@@ -11,30 +10,19 @@ import json
 
 import click
 
+from rarefy.cli_errors import fail, parse_option
 from rarefy.estimate import KINDS, ROUND, THIN
 from rarefy.estimate import estimate as compute_estimate
 from rarefy.estimate import format_estimate
 from rarefy.gas.species import get_species
-from rarefy.units import UnitError, parse_quantity
 
 __all__ = ["estimate"]
 
 UNIT_SYSTEMS = ("si", "vacuum")
 
 
-def _fail(message: str):
-    from rarefy.cli_errors import InputError
-
-    raise InputError(message)
-
-
-def _parse(value, kind: str, option: str):
-    if value is None:
-        return None
-    try:
-        return parse_quantity(value, kind)
-    except UnitError as exc:
-        _fail(f"{option}: {exc}")
+_fail = fail
+_parse = parse_option
 
 
 def _positive(value, option: str, what: str):

@@ -2,8 +2,7 @@
 speed distribution recovered from that trace.
 
 Register with ``cli.add_command(tof)``. Every input error is one line, exit 2
-(:class:`rarefy.cli_errors.InputError`, imported when needed so that ``rarefy.cli`` may
-import this module at any point). The physics is in :mod:`rarefy.tof`; the source
+(:class:`rarefy.cli_errors.InputError`). The physics is in :mod:`rarefy.tof`; the source
 histogram comes from ``rarefy.post.probes.load_speed_distribution(rundir, name)``.
 """
 
@@ -17,13 +16,14 @@ from pathlib import Path
 import click
 import numpy as np
 
+from rarefy.cli_errors import fail, parse_option
 from rarefy.post.speed_distribution import SpeedDistribution
 from rarefy.tof import (DETECTORS, Gate, Trace, channel_widths, chopper_gate,
                         default_times, flux_quantile_speeds, mean_speed, mean_speed_stderr,
                         naive_speed_distribution, peak_time, predict_trace,
                         recover_speed_distribution, rectangular_gate, signal_mean_time,
                         to_flux_weighting)
-from rarefy.units import UnitError, format_quantity, parse_quantity
+from rarefy.units import format_quantity
 
 __all__ = ["tof", "gate_from_options", "coarsen", "choose_n_times", "analyse",
            "format_summary",
@@ -34,19 +34,8 @@ MAX_RECOVERY_BINS = 100  # the recovered histogram uses the source's bins, merge
 MIN_TIMES, MAX_TIMES = 400, 5000  # time channels of a trace, see choose_n_times
 
 
-def _fail(message: str):
-    from rarefy.cli_errors import InputError
-
-    raise InputError(message)
-
-
-def _parse(value, kind: str, option: str):
-    if value is None:
-        return None
-    try:
-        return parse_quantity(value, kind)
-    except UnitError as exc:
-        _fail(f"{option}: {exc}")
+_fail = fail
+_parse = parse_option
 
 
 def _positive(value, option: str):
