@@ -215,14 +215,14 @@ def _resume_state(case, rundir: Path, seed: int | None):
     except CheckpointError as exc:
         raise InputError(f"--resume: {exc}") from None
     if meta["case_text"] != case.source_text or \
-            list(meta["case_overrides"]) != [tuple(kv) for kv in case.overrides]:
+            dict(meta["case_overrides"]) != dict(case.overrides):
         raise InputError(f"--resume: the case file or its --set overrides differ from those "
                          f"of the checkpointed run in {rundir}; resume with the same case "
                          f"and --set options (the run's case is in {rundir / 'case.toml'})")
     if seed is not None and seed != meta["seed"]:
         raise InputError(f"--seed {seed}: the checkpointed run uses seed {meta['seed']}; "
                          "leave --seed out when resuming")
-    return meta["seed"], snap
+    return meta, snap
 
 
 def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
@@ -241,14 +241,25 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
     from it.
     """
     from rarefy.engine.simulation import RunStopped, Simulation
-    from rarefy.io.checkpoint import CHECKPOINT_NAME, write_checkpoint
+    from rarefy.io.checkpoint import write_checkpoint
     from rarefy.io.result import RESULT_NAME, write_result
     from rarefy.progress import Progress
+
+    from rarefy.io.checkpoint import CHECKPOINT_NAME
 
     plan, guard_warnings = _plan(case, time_budget_s)
     snap = None
     if resume:
-        seed, snap = _resume_state(case, rundir, seed)
+        meta, snap = _resume_state(case, rundir, seed)
+        seed = meta["seed"]
+        if json.loads(json.dumps(plan.to_dict())) != meta["plan"]:
+            raise InputError(f"--resume: this rarefy plans the case differently from the "
+                             f"version that wrote {rundir / CHECKPOINT_NAME} "
+                             f"({meta['rarefy_version']}); start the run again")
+    elif (rundir / CHECKPOINT_NAME).exists():
+        raise InputError(f"{rundir} holds a checkpoint of an unfinished run: continue it "
+                         "with --resume, or remove "
+                         f"{rundir / CHECKPOINT_NAME} to start afresh")
     if seed is None:
         seed = case.run.seed if case.run.seed is not None else secrets.randbits(31)
     rundir.mkdir(parents=True, exist_ok=True)
@@ -305,7 +316,10 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
             raise KeyboardInterrupt   # a second Ctrl-C stops at once
         signals["stop"] = signum
 
-    old = {sig: signal.signal(sig, request_stop) for sig in (signal.SIGINT, signal.SIGTERM)} \
+    # an ignored SIGINT stays ignored (background jobs, sweep workers)
+    handled = [sig for sig in (signal.SIGINT, signal.SIGTERM)
+               if signal.getsignal(sig) is not signal.SIG_IGN]
+    old = {sig: signal.signal(sig, request_stop) for sig in handled} \
         if threading.current_thread() is threading.main_thread() else {}
     sim.stop_check = lambda: "stop" in signals
     try:
@@ -321,6 +335,14 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
                     f", partial result of {sim.acc.batch} batches in {rundir / RESULT_NAME}"
                     if sim.acc.batch >= 2 else "", rundir)
         raise SystemExit(128 + int(signals["stop"]))
+    except KeyboardInterrupt:   # a second Ctrl-C: no new files
+        if progress:
+            progress.close()
+        have = (rundir / CHECKPOINT_NAME).exists()
+        log.warning("aborted at step %d; %s", sim.clock.step,
+                    f"the last checkpoint in {rundir / CHECKPOINT_NAME} can be resumed "
+                    "with --resume" if have else "no checkpoint was written yet")
+        raise SystemExit(130) from None
     finally:
         for sig, handler in old.items():
             signal.signal(sig, handler)
@@ -369,6 +391,9 @@ def run(case_file, output, seed, sets, target_error, max_steps, plane, resume,
     far; `--resume` continues from the checkpoint."""
     from rarefy.report import format_report, load_report
 
+    if not math.isfinite(checkpoint_every):
+        raise InputError(f"--checkpoint-every: must be a number of seconds >= 0; got "
+                         f"{checkpoint_every}")
     case = _load(case_file, sets)
     rundir = _rundir(output)
     path = execute(case, rundir, seed, quiet, target_error, max_steps, plane, resume,
@@ -380,9 +405,10 @@ def run(case_file, output, seed, sets, target_error, max_steps, plane, resume,
 
 
 def _write_json(path: Path, data: dict) -> None:
-    tmp = path.with_name(path.name + ".tmp")
-    tmp.write_text(json.dumps(data, indent=2, default=_json_default))
-    tmp.replace(path)
+    from rarefy.io.atomic import atomic_path
+
+    with atomic_path(path) as tmp:
+        tmp.write_text(json.dumps(data, indent=2, default=_json_default))
 
 
 def _json_default(o):

@@ -58,6 +58,11 @@ def sweep(case_file, sets, output, jobs, seed, plane, quiet):
                          quiet=quiet, plane=plane)
     except (CaseError, ValueError) as exc:
         raise InputError(str(exc)) from None
+    except KeyboardInterrupt:
+        click.echo(f"interrupted: finished points are in {out / 'sweep.csv'}; each stopped "
+                   "point holds a checkpoint (continue it with `rarefy run CASE -o "
+                   "POINT_DIR --resume` and its --set values)", err=True)
+        raise SystemExit(130) from None
     png = plot_sweep(rows, out / "sweep.png")
     click.echo(f"sweep of {key} over {len(values)} points")
     click.echo(format_rows(rows))

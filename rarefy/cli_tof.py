@@ -311,7 +311,10 @@ def tof(rundir, source, flight_length, open_time, slit_width, rim_speed, beam_wi
         result = analyse(dist, L, gate, detector, ell)
     except ValueError as exc:
         _fail(f"--source {source}: {exc}")
-    out.mkdir(parents=True, exist_ok=True)
-    click.echo(format_summary(result, source))
-    for p in write_outputs(result, out, source):
-        click.echo(f"wrote {p}")
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+        click.echo(format_summary(result, source))
+        for p in write_outputs(result, out, source):
+            click.echo(f"wrote {p}")
+    except OSError as exc:
+        _fail(f"-o {out}: cannot write there ({exc.strerror or exc})")

@@ -11,6 +11,7 @@ import csv
 import math
 import os
 import secrets
+import signal
 import sys
 from concurrent.futures import ProcessPoolExecutor
 from pathlib import Path
@@ -145,8 +146,11 @@ def _prepare(case_path, key, values, fixed, plane, seed):
 
 
 def _init_worker() -> None:
-    """One thread per point (read by numba when the worker first imports it)."""
+    """One thread per point (read by numba when the worker first imports it). Workers
+    ignore Ctrl-C: the parent stops them with SIGTERM, after which each running point
+    writes its checkpoint (``rarefy run --resume`` continues it)."""
     os.environ["NUMBA_NUM_THREADS"] = "1"
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
 def _blank(point: dict, rundir) -> dict:
@@ -154,9 +158,15 @@ def _blank(point: dict, rundir) -> dict:
     return {**row, "value": point["value"], "seed": point["seed"], "run_dir": str(rundir)}
 
 
+_STOPPED = []   # set in a worker once a signal has stopped one of its points
+
+
 def _run_point(case_path, point, rundir, plane, quiet) -> dict:
     """Run one point in a worker process; returns its row (``error`` set on failure)."""
     row = _blank(point, rundir)
+    if _STOPPED:   # points queued before the sweep was interrupted do not start
+        row["error"] = "not run (sweep interrupted)"
+        return row
     try:
         if not quiet:
             import logging
@@ -177,7 +187,8 @@ def _run_point(case_path, point, rundir, plane, quiet) -> dict:
                    free_molecular_transmission=an.get("free_molecular_transmission", 1.0),
                    continuum_transmission=an["isentropic_choked_transmission_probability"])
     except SystemExit:  # execute() turns an interrupt into SystemExit
-        row["error"] = "interrupted"
+        _STOPPED.append(True)
+        row["error"] = "interrupted (checkpoint written; resume the point with --resume)"
     except Exception as exc:
         msg = exc.format_message() if hasattr(exc, "format_message") else str(exc)
         row["error"] = msg if msg.strip() else type(exc).__name__
@@ -244,16 +255,30 @@ def run_sweep(case_path, key: str, values, outdir, fixed: dict | None = None,
     with ProcessPoolExecutor(jobs, initializer=_init_worker) as pool:
         futures = [pool.submit(_run_point, str(case_path), p, str(d), plane, quiet)
                    for p, d in zip(points, dirs)]
-        rows = []
+        interrupted = False
         try:
-            for p, d, fut in zip(points, dirs, futures):
+            for fut in futures:
                 try:
-                    rows.append(fut.result())
-                except Exception as exc:  # the worker process died
-                    rows.append({**_blank(p, d), "error": f"worker failed: {exc!r}"})
+                    fut.result()
+                except Exception:
+                    pass
         except KeyboardInterrupt:
-            pool.shutdown(cancel_futures=True)
-            raise
+            interrupted = True
+            for fut in futures:
+                fut.cancel()
+            for proc in list(getattr(pool, "_processes", {}).values()):
+                proc.terminate()     # SIGTERM: the point checkpoints and stops
+            pool.shutdown(wait=True, cancel_futures=True)
+        rows = []
+        for p, d, fut in zip(points, dirs, futures):
+            if fut.cancelled():
+                rows.append({**_blank(p, d), "error": "not run (sweep interrupted)"})
+                continue
+            try:
+                rows.append(fut.result())
+            except Exception as exc:  # the worker process died
+                rows.append({**_blank(p, d), "error": "interrupted" if interrupted
+                             else f"worker failed: {exc!r}"})
     for row in rows:
         row["key"] = key
     write_csv(rows, outdir / "sweep.csv")
@@ -261,6 +286,8 @@ def run_sweep(case_path, key: str, values, outdir, fixed: dict | None = None,
     _write_json(outdir / "sweep.json", _nan_to_none(dict(
         case=str(case_path), key=key, override_keys=keys, values=values,
         fixed=dict(fixed or {}), plane=plane, rows=[dict(r) for r in rows])))
+    if interrupted:
+        raise KeyboardInterrupt
     return rows
 
 

@@ -34,7 +34,7 @@ def atomic_path(path: Path):
     """Yield a temporary path next to ``path``; on success flush it and rename it over
     ``path``; on failure remove it and leave ``path`` as it was."""
     path = Path(path)
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
+    tmp = path.with_name(f".{path.name}.tmp")   # one writer per run folder
     try:
         yield tmp
         with open(tmp, "rb+") as fh:

@@ -7,10 +7,12 @@ N / r is then the effective number of independent samples. The fit is the
 maximum-likelihood fit of the binned (multinomial) model (Cowan 1998, Statistical Data
 Analysis, sec. 6.10 -- from memory), its covariance r times the inverse Fisher
 information, and the goodness of fit both Pearson's chi^2 per degree of freedom with
-variances r E_k, and the Kolmogorov-Smirnov distance between the binned and fitted
-cumulative distributions with the KS p-value for N / r samples (scipy.stats.kstwo).
-The binned KS distance is at most the unbinned one, so that p-value errs on the side of
-accepting.
+variances r E_k (neighbouring bins merged until each expects 5 r), and the
+Kolmogorov-Smirnov distance between the binned and fitted cumulative distributions with
+the KS p-value for N / r samples (scipy.stats.kstwo). That p-value errs on the side of
+accepting: the binned distance is at most the unbinned one, and the parameters were
+fitted to the same data (the KS table assumes a fully specified distribution); treat
+it as a screen, and chi^2/dof as the figure of merit.
 """
 
 from __future__ import annotations
@@ -77,6 +79,24 @@ def _probabilities(cdf, theta, edges) -> np.ndarray:
                                                                                 np.nan)
 
 
+def _merge_bins(observed: np.ndarray, expected: np.ndarray, least: float):
+    """Merge neighbouring bins, left to right, until each expects at least ``least``
+    (the remainder joins the last group): the usual condition for Pearson's chi^2."""
+    obs, exp = [], []
+    o = e = 0.0
+    for ob, ex in zip(observed, expected):
+        o += ob
+        e += ex
+        if e >= least:
+            obs.append(o)
+            exp.append(e)
+            o = e = 0.0
+    if e > 0.0 and exp:
+        obs[-1] += o
+        exp[-1] += e
+    return np.array(obs), np.array(exp)
+
+
 def fit_binned(edges: np.ndarray, batch_counts: np.ndarray, cdf: Callable,
                start: list[float], lower: list[float] | None = None) -> BinnedFit | None:
     """Maximum-likelihood fit of ``cdf(v, *theta)`` to a histogram on ``edges``.
@@ -126,9 +146,9 @@ def fit_binned(edges: np.ndarray, batch_counts: np.ndarray, cdf: Callable,
     except np.linalg.LinAlgError:
         cov = np.full((k, k), np.nan)
     expected = n * p
-    use = expected >= 5.0 * r
-    dof = int(np.count_nonzero(use)) - 1 - k
-    chi2 = float(np.sum((counts[use] - expected[use]) ** 2 / (r * expected[use])))
+    obs_m, exp_m = _merge_bins(counts, expected, 5.0 * r)
+    dof = obs_m.size - 1 - k
+    chi2 = float(np.sum((obs_m - exp_m) ** 2 / (r * exp_m)))
     ks = float(np.max(np.abs(np.cumsum(counts) / n - np.cumsum(p))))
     m = max(int(round(neff)), 1)
     return BinnedFit(

@@ -144,9 +144,12 @@ def _component_fit(edges, hist, mass_kg, start_u, start_t) -> dict:
 
 def _orifice_beam(case, box, mass_kg) -> dict | None:
     """Free-molecular values at the probe centre when the probe sits on the axis behind
-    a thin orifice (a flux plane from the axis with opening = "orifice", no length)."""
+    a thin orifice (a flux plane from the axis with opening = "orifice", no length) fed
+    from a reservoir on the xmin side."""
     if case is None or not case.domain.axisymmetric or box[2] > 0.0:
         return None
+    if not any(b.side == "xmin" and b.kind == "reservoir" for b in case.boundaries):
+        return None      # the beam runs towards +x from a source on the xmin side
     for fp in case.flux_planes:
         if fp.opening == "orifice" and fp.opening_length_m == 0.0 and fp.start[0] == fp.end[0] \
                 and min(fp.start[1], fp.end[1]) == 0.0:
@@ -257,7 +260,10 @@ def load_speed_distribution(rundir: str | Path, name: str) -> SpeedDistribution:
     if not target.exists():
         raise InputError(f"{rundir}: no result file (expected {target}); run `rarefy run` "
                          "first")
-    r = read_result(target)
+    try:
+        r = read_result(target)
+    except (OSError, ValueError, KeyError) as exc:   # not HDF5, other format, damaged
+        raise InputError(f"{target}: cannot be read as a rarefy result ({exc})") from None
     dist = speed_distribution(r, name)
     if dist is None:
         known = r.probe_names + r.plane_names

@@ -176,7 +176,7 @@ def orifice_axis_beam(z_m, radius_m, t_k, mass_kg) -> dict:
     * T_perp = T (2 - mu - mu^2) / 2 (each transverse axis);
     * speed ratio S = u / sqrt(2 k T_par / m).
 
-    Far away (mu -> 1) S -> sqrt(4/pi) / sqrt(3 - 8/pi) = 1.6765, the effusive beam's value.
+    Far away (mu -> 1) S -> sqrt(4/pi) / sqrt(3 - 8/pi) = 1.6755, the effusive beam's value.
 
     Returns a dict with ``drift_m_s``, ``temperature_parallel_k``,
     ``temperature_perpendicular_k``, ``speed_ratio`` (floats or arrays like ``z_m``).

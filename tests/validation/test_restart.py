@@ -141,3 +141,31 @@ def test_resume_refuses_a_different_case(tmp_path):
                          capture_output=True, text=True)
     assert res.returncode == 2 and "differ" in res.stderr and "Traceback" not in res.stderr
     assert len(res.stderr.strip().splitlines()) == 1
+    # a fresh run into the folder would overwrite the checkpoint: refused
+    res = subprocess.run(_cmd(case, out), capture_output=True, text=True)
+    assert res.returncode == 2 and "--resume" in res.stderr
+    assert len(res.stderr.strip().splitlines()) == 1
+
+
+def test_ctrl_c_stops_a_sweep_and_keeps_the_finished_points(tmp_path):
+    case = _case(tmp_path)
+    out = tmp_path / "sweep"
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "rarefy.cli", "sweep", str(case), "--set",
+         "upstream_pressure=8Pa,9Pa,10Pa,11Pa", "-o", str(out), "--jobs", "1", "-q"],
+        stdout=subprocess.PIPE, stderr=subprocess.PIPE, start_new_session=True)
+    deadline = time.monotonic() + 300
+    while not (out / "point-00" / RESULT_NAME).exists() and time.monotonic() < deadline:
+        time.sleep(0.05)
+    while not (out / "point-01" / "case.toml").exists() and time.monotonic() < deadline:
+        time.sleep(0.05)
+    time.sleep(1.0)                          # point-01 is stepping
+    os.killpg(proc.pid, signal.SIGINT)       # Ctrl-C reaches the whole process group
+    _, err = proc.communicate(timeout=120)
+    err = err.decode()
+    assert proc.returncode == 130, err
+    assert "Traceback" not in err and "sweep.csv" in err
+    rows = (out / "sweep.csv").read_text().splitlines()
+    assert len(rows) == 5
+    assert not (out / "point-03").exists()           # queued points never started
+    assert (out / "point-01" / CHECKPOINT_NAME).exists()   # the running one can resume
