@@ -8,7 +8,7 @@ install:
 	$(PIP) install -q -e .
 
 install-test:
-	$(PIP) install -q -e '.[test]'
+	$(PIP) install -q -e '.[test,mpi]'
 
 demo: install
 	rarefy demo -o $(DEMO_DIR)

@@ -356,6 +356,52 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
     return path
 
 
+def execute_replicas(case, rundir: Path, seed: int | None, quiet: bool = False,
+                     time_budget_s: float | None = None) -> Path | None:
+    """Run ``case`` as one replica per MPI rank (``rarefy.mpi``); rank 0 gathers them
+    into one result in ``rundir`` and returns its path, the other ranks return None."""
+    from rarefy.engine.simulation import Simulation
+    from rarefy.io.result import RESULT_NAME, write_result
+    from rarefy.mpi import MPIUnavailable, combine_replicas, gather_replicas, replica_seed, world
+    from rarefy.progress import Progress
+
+    try:
+        comm = world()
+    except MPIUnavailable as exc:
+        raise InputError(f"--replicas: {exc}") from None
+    rank, size = comm.Get_rank(), comm.Get_size()
+    plan, guard_warnings = _plan(case, time_budget_s)
+    if seed is None:
+        seed = case.run.seed if case.run.seed is not None else secrets.randbits(31)
+    seed = comm.bcast(seed, root=0)
+    if rank == 0:
+        rundir.mkdir(parents=True, exist_ok=True)
+        (rundir / "case.toml").write_text(case.source_text)
+        if case.overrides:
+            _write_json(rundir / "case-overrides.json", dict(case.overrides))
+        if not quiet:
+            log.info("%d replicas of %d x %d cells, about %.3g particles each, %d + %d steps, "
+                     "seed %d", size, plan.nx, plan.ny, plan.expected_particles,
+                     plan.settle_steps, plan.sample_steps, seed)
+            for w in plan.warnings() + guard_warnings:
+                log.warning("warning: %s", w)
+    sim = Simulation(case, plan, replica_seed(seed, rank))
+    names = [fp.name for fp in case.flux_planes]
+    progress = Progress(0 if names else None, names[0] if names else "") \
+        if rank == 0 and not quiet else None
+    sim.run(progress, every=max(1, (plan.settle_steps + plan.sample_steps) // 20))
+    if progress:
+        progress.close()
+    payloads = gather_replicas(comm, sim)
+    if rank != 0:
+        return None
+    combine_replicas(sim, payloads)
+    sim.seed = seed
+    sim.replicas = size
+    sim.stop_reason = f"{sim.stop_reason} ({size} replicas combined)"
+    return write_result(rundir / RESULT_NAME, sim)
+
+
 @cli.command()
 @click.argument("case_file", type=click.Path())
 @click.option("-o", "--output", "output", required=True, type=click.Path(file_okay=False),
@@ -381,9 +427,12 @@ def execute(case, rundir: Path, seed: int | None, quiet: bool = False,
                                 "multiple of 100).")
 @click.option("--time-budget", "time_budget", default=None, metavar="TIME",
               help=TIME_BUDGET_HELP)
+@click.option("--replicas", is_flag=True,
+              help="Under `mpiexec -n K`: K independent replicas combined into one result "
+                   "(needs rarefy[mpi]).")
 @click.option("-q", "--quiet", is_flag=True, help="No progress display.")
 def run(case_file, output, seed, sets, target_error, max_steps, plane, resume,
-        checkpoint_every, checkpoint_steps, time_budget, quiet):
+        checkpoint_every, checkpoint_steps, time_budget, replicas, quiet):
     """Run a case: settle, sample, write RUNDIR/result.h5 and print the summary.
 
     Progress goes to stderr (a bar on a terminal, a line every 5 % otherwise). Ctrl-C or
@@ -396,8 +445,18 @@ def run(case_file, output, seed, sets, target_error, max_steps, plane, resume,
                          f"{checkpoint_every}")
     case = _load(case_file, sets)
     rundir = _rundir(output)
-    path = execute(case, rundir, seed, quiet, target_error, max_steps, plane, resume,
-                   checkpoint_every, _time_budget(time_budget), checkpoint_steps)
+    if replicas:
+        for flag, value in (("--resume", resume), ("--target-error", target_error),
+                            ("--checkpoint-steps", checkpoint_steps)):
+            if value:
+                raise InputError(f"{flag} does not combine with --replicas (replica runs "
+                                 "sample a fixed number of steps and keep no checkpoints)")
+        path = execute_replicas(case, rundir, seed, quiet, _time_budget(time_budget))
+        if path is None:      # not rank 0: rank 0 reports
+            return
+    else:
+        path = execute(case, rundir, seed, quiet, target_error, max_steps, plane, resume,
+                       checkpoint_every, _time_budget(time_budget), checkpoint_steps)
     rep = load_report(rundir)
     _write_json(rundir / "summary.json", rep)
     click.echo(format_report(rep))

@@ -46,7 +46,9 @@ def format_rows(rows: list[dict]) -> str:
 @click.option("-q", "--quiet", is_flag=True, help="No progress lines.")
 def sweep(case_file, sets, output, jobs, seed, plane, quiet):
     """Run a case once per value of one key, in parallel, and tabulate and plot the
-    transmission probability W against the rarefaction parameter delta."""
+    transmission probability W against the rarefaction parameter delta. Under
+    `mpiexec -n K` the points are shared among the K ranks (needs rarefy[mpi])."""
+    from rarefy.mpi import MPIUnavailable
     from rarefy.sweep import parse_sweep, plot_sweep, run_sweep
 
     out = Path(output)
@@ -56,13 +58,15 @@ def sweep(case_file, sets, output, jobs, seed, plane, quiet):
         key, values, fixed = parse_sweep(sets)
         rows = run_sweep(case_file, key, values, out, fixed=fixed, jobs=jobs, seed=seed,
                          quiet=quiet, plane=plane)
-    except (CaseError, ValueError) as exc:
+    except (CaseError, ValueError, MPIUnavailable) as exc:
         raise InputError(str(exc)) from None
     except KeyboardInterrupt:
         click.echo(f"interrupted: finished points are in {out / 'sweep.csv'}; each stopped "
                    "point holds a checkpoint (continue it with `rarefy run CASE -o "
                    "POINT_DIR --resume` and its --set values)", err=True)
         raise SystemExit(130) from None
+    if rows is None:          # an MPI rank other than 0: rank 0 reports
+        return
     png = plot_sweep(rows, out / "sweep.png")
     click.echo(f"sweep of {key} over {len(values)} points")
     click.echo(format_rows(rows))

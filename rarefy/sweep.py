@@ -18,6 +18,7 @@ from pathlib import Path
 
 from rarefy.case import SIDES, CaseError, load_case
 from rarefy.guards import GuardError, check_plan
+from rarefy.mpi import launched_size
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -252,6 +253,11 @@ def run_sweep(case_path, key: str, values, outdir, fixed: dict | None = None,
     outdir = Path(outdir)
     outdir.mkdir(parents=True, exist_ok=True)
     dirs = [outdir / f"point-{p['index']:02d}" for p in points]
+    if launched_size() > 1:          # under mpiexec: the ranks share the points
+        rows = _run_on_ranks(case_path, points, dirs, plane, quiet)
+        if rows is None:
+            return None
+        return _finish(rows, key, outdir, case_path, keys, values, fixed, plane)
     with ProcessPoolExecutor(jobs, initializer=_init_worker) as pool:
         futures = [pool.submit(_run_point, str(case_path), p, str(d), plane, quiet)
                    for p, d in zip(points, dirs)]
@@ -279,6 +285,13 @@ def run_sweep(case_path, key: str, values, outdir, fixed: dict | None = None,
             except Exception as exc:  # the worker process died
                 rows.append({**_blank(p, d), "error": "interrupted" if interrupted
                              else f"worker failed: {exc!r}"})
+    _finish(rows, key, outdir, case_path, keys, values, fixed, plane)
+    if interrupted:
+        raise KeyboardInterrupt
+    return rows
+
+
+def _finish(rows, key, outdir, case_path, keys, values, fixed, plane) -> list[dict]:
     for row in rows:
         row["key"] = key
     write_csv(rows, outdir / "sweep.csv")
@@ -286,9 +299,22 @@ def run_sweep(case_path, key: str, values, outdir, fixed: dict | None = None,
     _write_json(outdir / "sweep.json", _nan_to_none(dict(
         case=str(case_path), key=key, override_keys=keys, values=values,
         fixed=dict(fixed or {}), plane=plane, rows=[dict(r) for r in rows])))
-    if interrupted:
-        raise KeyboardInterrupt
     return rows
+
+
+def _run_on_ranks(case_path, points, dirs, plane, quiet) -> list[dict] | None:
+    """Point i runs on rank i mod K, one after another; rank 0 gathers the rows and
+    returns them (the other ranks return None)."""
+    from rarefy.mpi import world
+    comm = world()
+    rank, size = comm.Get_rank(), comm.Get_size()
+    mine = {p["index"]: _run_point(str(case_path), p, str(d), plane, quiet)
+            for p, d in zip(points, dirs) if p["index"] % size == rank}
+    gathered = comm.gather(mine, root=0)
+    if rank != 0:
+        return None
+    merged = {i: row for part in gathered for i, row in part.items()}
+    return [merged[p["index"]] for p in points]
 
 
 def _limit(ax, rows, name, label, style):

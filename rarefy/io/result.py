@@ -240,6 +240,8 @@ def _write(tmp: Path, sim, interrupted: bool, status: str | None) -> None:
             stop_reason=status or getattr(sim, "stop_reason", "") or (
                 "interrupted" if interrupted else ""),
             cell_fields=" ".join(fields),
+            replicas=getattr(sim, "replicas", 1),
+            replica_seeds=json.dumps(getattr(sim, "replica_seeds", [])),
         )
         w = _Writer(f)
         xc, yc = geom.cell_centres()
