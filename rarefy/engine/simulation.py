@@ -242,12 +242,11 @@ class Simulation:
         t2 = time.perf_counter()
         self._sort()
         s = st.state
-        t3 = time.perf_counter()
+        t3 = tc = time.perf_counter()
         if sampling:  # half the sample before collisions (see rarefy.kernels.sample)
             self._sample(s, 0.5)
-            t3b = time.perf_counter()
-            ph["sample"] += t3b - t3
-            t3 = t3b
+            tc = time.perf_counter()
+            ph["sample"] += tc - t3
         self.coll_stats[:] = 0.0
         collide_cells(g.ncell, self.nsub, self.key_start, s[X], s[Y], s[VX], s[VY], s[VZ],
                       g.volume, self.sigcr_max, self.remainder, self.cell_fnum, self.dt,
@@ -258,7 +257,7 @@ class Simulation:
             acc.collisions[acc.batch] += self.coll_stats
             acc.end_step(st.n, self._batch_fields)
         t5 = time.perf_counter()
-        for name, a, b in zip(PHASES, (t0, t1, t2, t3, t4), (t1, t2, t3, t4, t5)):
+        for name, a, b in zip(PHASES, (t0, t1, t2, tc, t4), (t1, t2, t3, t4, t5)):
             ph[name] += b - a
         self.clock.step += 1
         self.clock.time_s += self.dt
