@@ -358,18 +358,25 @@ def _inside_triangle(x, y):
     return inside
 
 
+def _closed_box(text: str, particles: float, seed: int):
+    """The closed box with about ``particles`` particles: (simulation, count, number
+    above the divider)."""
+    plan = make_plan(case := parse_case(text))
+    plan = dataclasses.replace(plan, particle_weight=plan.expected_particles
+                               * plan.particle_weight / particles,
+                               expected_particles=particles)
+    sim = Simulation(case, plan, seed)
+    n0 = sim.store.n
+    s = sim.store.state
+    return sim, n0, int(np.sum(s[1, :n0] > np.interp(s[0, :n0], *DIVIDER)))
+
+
 def test_closed_box_with_walls_keeps_every_particle():
     # exact: a box closed by walls loses nothing, and no molecule enters a solid or
     # crosses a wall; the divider runs from side to side, so the number of molecules
     # above it is invariant as well
-    case = parse_case(CLOSED_BOX)
-    plan = make_plan(case)
-    plan = dataclasses.replace(plan, particle_weight=plan.expected_particles
-                               * plan.particle_weight / 2000.0, expected_particles=2000.0)
-    sim = Simulation(case, plan, 606)
-    n0 = sim.store.n
+    sim, n0, above0 = _closed_box(CLOSED_BOX, 2000.0, 606)
     s = sim.store.state
-    above0 = int(np.sum(s[1, :n0] > np.interp(s[0, :n0], *DIVIDER)))
     assert 1500 < n0 < 2500 and 0 < above0 < n0
     assert not _inside_triangle(s[0, :n0], s[1, :n0]).any()
     collisions = 0.0
@@ -393,14 +400,8 @@ def test_leak_over_10_8_wall_interactions():
     # diffuse, specular and partly accommodating surfaces. Flights of about the box size
     # per step (25 us at 400 m/s) give about two wall events per molecule and step.
     from rarefy.kernels.config import T_HITS
-    case = parse_case(CLOSED_BOX.replace('time_step = "5 us"', 'time_step = "25 us"'))
-    plan = make_plan(case)
-    plan = dataclasses.replace(plan, particle_weight=plan.expected_particles
-                               * plan.particle_weight / 40_000.0, expected_particles=4e4)
-    sim = Simulation(case, plan, 2027)
-    n0 = sim.store.n
-    s = sim.store.state
-    above0 = int(np.sum(s[1, :n0] > np.interp(s[0, :n0], *DIVIDER)))
+    sim, n0, above0 = _closed_box(
+        CLOSED_BOX.replace('time_step = "5 us"', 'time_step = "25 us"'), 4e4, 2027)
     hits = 0.0
     steps = 0
     while hits < 1e8:
