@@ -430,16 +430,24 @@ def execute_replicas(case, rundir: Path, seed: int | None, quiet: bool = False,
 @click.option("--replicas", is_flag=True,
               help="Under `mpiexec -n K`: K independent replicas combined into one result "
                    "(needs rarefy[mpi]).")
+@click.option("--threads", type=click.IntRange(1), default=None, metavar="N",
+              help="Threads of the parallel kernels [default: every core; under mpiexec, "
+                   "the node's cores shared among its ranks]. The result is the same for "
+                   "every N.")
 @click.option("-q", "--quiet", is_flag=True, help="No progress display.")
 def run(case_file, output, seed, sets, target_error, max_steps, plane, resume,
-        checkpoint_every, checkpoint_steps, time_budget, replicas, quiet):
+        checkpoint_every, checkpoint_steps, time_budget, replicas, threads, quiet):
     """Run a case: settle, sample, write RUNDIR/result.h5 and print the summary.
 
     Progress goes to stderr (a bar on a terminal, a line every 5 % otherwise). Ctrl-C or
     SIGTERM stops after the current step, writes a checkpoint and the batches done so
     far; `--resume` continues from the checkpoint."""
+    from rarefy.mpi import local_size
     from rarefy.report import format_report, load_report
+    from rarefy.threads import share_of_cores, use_threads
 
+    use_threads(threads if threads else
+                share_of_cores(local_size()) if local_size() > 1 else None)
     if not math.isfinite(checkpoint_every):
         raise InputError(f"--checkpoint-every: must be a number of seconds >= 0; got "
                          f"{checkpoint_every}")

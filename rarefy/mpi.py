@@ -16,7 +16,7 @@ import os
 
 import numpy as np
 
-__all__ = ["MPIUnavailable", "launched_size", "world", "replica_seed", "combine_replicas"]
+__all__ = ["MPIUnavailable", "launched_size", "local_size", "world", "replica_seed", "combine_replicas"]
 
 INSTALL_HINT = ("install the optional MPI support with `pip install 'rarefy[mpi]'` (mpi4py "
                 "and MPICH wheels; no system MPI needed) and start with `mpiexec -n K rarefy "
@@ -36,6 +36,16 @@ def launched_size() -> int:
         if value and value.isdigit():
             return int(value)
     return 1
+
+
+def local_size() -> int:
+    """Ranks started on this node (MPICH MPI_LOCALNRANKS, Open MPI
+    OMPI_COMM_WORLD_LOCAL_SIZE), else all ranks: they share this machine's cores."""
+    for var in ("MPI_LOCALNRANKS", "OMPI_COMM_WORLD_LOCAL_SIZE"):
+        value = os.environ.get(var)
+        if value and value.isdigit():
+            return int(value)
+    return launched_size()
 
 
 def world():

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import csv
 import math
+import multiprocessing
 import os
 import secrets
 import signal
@@ -19,6 +20,7 @@ from pathlib import Path
 from rarefy.case import SIDES, CaseError, load_case
 from rarefy.guards import GuardError, check_plan
 from rarefy.mpi import launched_size
+from rarefy.threads import share_of_cores
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -146,11 +148,17 @@ def _prepare(case_path, key, values, fixed, plane, seed):
     return points, plane, keys
 
 
-def _init_worker() -> None:
-    """One thread per point (read by numba when the worker first imports it). Workers
+# Workers start as fresh processes: a forked copy of a process whose parallel kernels
+# already ran on an OpenMP pool would abort when its own kernels start one.
+START_METHOD = "spawn"
+
+
+def _init_worker(threads: int) -> None:
+    """Each worker runs its points on its share of the cores (``threads``). Workers
     ignore Ctrl-C: the parent stops them with SIGTERM, after which each running point
     writes its checkpoint (``rarefy run --resume`` continues it)."""
-    os.environ["NUMBA_NUM_THREADS"] = "1"
+    from rarefy.threads import use_threads
+    use_threads(threads)
     signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
@@ -258,7 +266,9 @@ def run_sweep(case_path, key: str, values, outdir, fixed: dict | None = None,
         if rows is None:
             return None
         return _finish(rows, key, outdir, case_path, keys, values, fixed, plane)
-    with ProcessPoolExecutor(jobs, initializer=_init_worker) as pool:
+    with ProcessPoolExecutor(jobs, mp_context=multiprocessing.get_context(START_METHOD),
+                             initializer=_init_worker,
+                             initargs=(share_of_cores(jobs),)) as pool:
         futures = [pool.submit(_run_point, str(case_path), p, str(d), plane, quiet)
                    for p, d in zip(points, dirs)]
         interrupted = False
@@ -305,7 +315,9 @@ def _finish(rows, key, outdir, case_path, keys, values, fixed, plane) -> list[di
 def _run_on_ranks(case_path, points, dirs, plane, quiet) -> list[dict] | None:
     """Point i runs on rank i mod K, one after another; rank 0 gathers the rows and
     returns them (the other ranks return None)."""
-    from rarefy.mpi import world
+    from rarefy.mpi import local_size, world
+    from rarefy.threads import use_threads
+    use_threads(share_of_cores(local_size()))
     comm = world()
     rank, size = comm.Get_rank(), comm.Get_size()
     mine = {p["index"]: _run_point(str(case_path), p, str(d), plane, quiet)

@@ -159,6 +159,7 @@ from rarefy.engine.particles import VX, VY, VZ  # noqa: E402
 from rarefy.engine.simulation import PHASES, Simulation  # noqa: E402
 from rarefy.plan import make_plan  # noqa: E402
 from rarefy.templates import orifice_case, slit_case, tube_case  # noqa: E402
+from rarefy.threads import parallel_min_particles  # noqa: E402
 
 CASES = ("collisional_box", "collisionless_slit", "collisionless_tube", "transitional_orifice")
 BATCH_STEPS = 50            # sampling batch length during the benchmark
@@ -369,7 +370,7 @@ def traffic(axisymmetric: bool, collisional: bool) -> dict:
 
 
 def parallel_kernels() -> list[str]:
-    """Names of the kernels compiled with parallel=True (none: single-threaded)."""
+    """Names of the kernels compiled with parallel=True."""
     import importlib
     import pkgutil
 
@@ -388,32 +389,15 @@ def parallel_kernels() -> list[str]:
 def measure(sim: Simulation, steps: int, repeats: int, warmup: int, bandwidth: float,
             collisional: bool, rss0: int | None) -> dict:
     """Time ``repeats`` blocks of ``steps`` sampled steps after ``warmup`` steps."""
-    # Simulation.step closes its index phase after the first half-sample, so that
-    # half-sample is counted in "index" as well as in "sample": time it here and take it
-    # out of "index" when the phases add up to more than the wall time (they do not
-    # once the engine's accounting is fixed)
-    first_half = [0.0, 0]
-    engine_sample = sim._sample
-
-    def timed_sample(s, weight):
-        t = time.perf_counter()
-        engine_sample(s, weight)
-        if first_half[1] % 2 == 0:
-            first_half[0] += time.perf_counter() - t
-        first_half[1] += 1
-
-    sim._sample = timed_sample
     _trim_heap()
     have_peak = _reset_peak()
     for k in range(warmup):
         sim.step(k % 2 == 1)
     blocks = []
-    corrected = False
     for _ in range(repeats):
         ph = sim.clock.phase_seconds
         for k in ph:
             ph[k] = 0.0
-        first_half[0] = 0.0
         ps0 = sim.clock.particle_steps
         coll0 = sim.acc.collisions.sum(axis=0)
         c0 = time.process_time()
@@ -423,12 +407,8 @@ def measure(sim: Simulation, steps: int, repeats: int, warmup: int, bandwidth: f
         wall = time.perf_counter() - t0
         cpu = time.process_time() - c0
         ps = sim.clock.particle_steps - ps0
-        if sum(ph.values()) - wall > 0.5 * first_half[0] > 0.0:
-            ph["index"] -= first_half[0]
-            corrected = True
         coll = (sim.acc.collisions.sum(axis=0) - coll0) / ps
         blocks.append((ps / wall, {k: ph[k] / ps * 1e9 for k in PHASES}, cpu / wall, coll))
-    del sim._sample
     peak = _rss_bytes("VmHWM") if have_peak else None
     n = sim.store.n
     rate, phases, cpu_ratio, coll = max(blocks, key=lambda b: b[0])
@@ -445,7 +425,6 @@ def measure(sim: Simulation, steps: int, repeats: int, warmup: int, bandwidth: f
         "ns_per_particle_step": 1e9 / rate,
         "block_rates": [b[0] for b in blocks],
         "phases": phases,
-        "index_double_count_removed": corrected,
         "cpu_over_wall": cpu_ratio,
         "collisions_per_particle_step": float(coll[0]),
         "candidates_per_particle_step": float(coll[2]),
@@ -627,9 +606,6 @@ def run_bench(sizes=(1e6,), steps: int = 10, repeats: int = 3, threads: int | No
     del warm
     out = {"machine": machine(bw), "threads": numba.get_num_threads(),
            "parallel_kernels": par,
-           "threads_note": ("the kernels are single-threaded (no kernel is compiled with "
-                            "parallel=True): --threads does not change these figures")
-           if not par else f"parallel kernels: {', '.join(par)}",
            "numba_version": numba.__version__, "sizes": list(sizes)}
     for name in cases:
         small = None
@@ -659,6 +635,18 @@ def run_bench(sizes=(1e6,), steps: int = 10, repeats: int = 3, threads: int | No
         out[name] = entry
     out["startup"] = startup(repeats, cold_repeats) if with_startup else None
     out["time_to_answer"] = time_to_answer() if with_time_to_answer else None
+    try:
+        layer = numba.threading_layer()
+    except ValueError:     # no parallel kernel has run (one thread, or small counts)
+        layer = None
+    out["threading_layer"] = layer
+    out["parallel_min_particles"] = parallel_min_particles()
+    out["threads_note"] = (
+        "no kernel is compiled with parallel=True: --threads does not change these figures"
+        if not par else
+        f"{len(par)} kernels have a parallel build, used from "
+        f"{parallel_min_particles():,} particles on {out['threads']} threads (pool: "
+        f"{layer or 'not started'}); their serial twins run below that and on one thread")
     return out
 
 

@@ -23,8 +23,8 @@ class ParticleStore:
         self.n = 0
         self.state = np.zeros((NVAR, capacity))
         self.spare = np.zeros((NVAR, capacity))
-        self.key = np.full(capacity, -1, dtype=np.int64)
-        self.key_spare = np.full(capacity, -1, dtype=np.int64)
+        self.key = np.full(capacity, -1, dtype=np.int32)
+        self.key_spare = np.full(capacity, -1, dtype=np.int32)
 
     @property
     def capacity(self) -> int:
@@ -44,7 +44,7 @@ class ParticleStore:
             setattr(self, name, new)
         for name in ("key", "key_spare"):
             old = getattr(self, name)
-            new = np.full(cap, -1, dtype=np.int64)
+            new = np.full(cap, -1, dtype=np.int32)
             new[: self.n] = old[: self.n]
             setattr(self, name, new)
 

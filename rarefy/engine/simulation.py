@@ -11,6 +11,7 @@ import time
 from dataclasses import dataclass, field
 from typing import Callable
 
+import numba
 import numpy as np
 
 from rarefy.case import SIDES, Case
@@ -22,13 +23,15 @@ from rarefy.gas.species import get_species
 from rarefy.geometry.cutcell import mask_inside_solids
 from rarefy.geometry.planar import Geometry, build_geometry
 from rarefy.geometry.probes import build_probes
-from rarefy.kernels.collide import collide_cells
+from rarefy.kernels.collide import collide_cells, collide_cells_par
 from rarefy.kernels.config import F_N_NEG, F_N_POS
-from rarefy.kernels.index import counting_sort
+from rarefy.kernels.index import counting_sort, counting_sort_par
 from rarefy.kernels.inject import N_INFLOW_COLS, inject, seed_generator
-from rarefy.kernels.move import compute_keys, move_all
-from rarefy.kernels.move_axi import move_all_axi
-from rarefy.kernels.sample import sample_cells, sample_probes
+from rarefy.kernels.move import compute_keys, move_all, move_all_par
+from rarefy.kernels.move_axi import move_all_axi, move_all_axi_par
+from rarefy.kernels.rng import run_key, step_key
+from rarefy.kernels.sample import sample_probes
+from rarefy.threads import run_parallel
 from rarefy.plan import Plan
 from rarefy.post.fields import fields_from_moments
 from rarefy.sampling.accumulators import Accumulators
@@ -40,6 +43,9 @@ PHASES = ("inject", "move", "index", "collide", "sample")
 # a run resumed from a checkpoint taken at such a step repeats the uninterrupted run bit
 # for bit, whatever process it runs in.
 RESEED_EVERY = 100
+# The parallel kernels draw from counter-based streams keyed by (seed, step, kernel, unit)
+# (rarefy.kernels.rng); these tell the kernels' keys apart.
+SALT_COLLIDE, SALT_MOVE = 1, 2
 MAX_SETTLE_FACTOR = 4
 # accumulator arrays a checkpoint carries
 ACC_ARRAYS = ("cell_batch", "cell_total", "surf", "flux", "collisions", "particles",
@@ -123,6 +129,7 @@ class Simulation:
         self.settle_reason = ""
         self.stop_reason = ""
         seed_generator(self.seed % (2 ** 32))
+        self.rng_key = run_key(self.seed)
         self._fill_initial()
 
     # ------------------------------------------------------------------ set-up
@@ -202,10 +209,14 @@ class Simulation:
                      self.nsub)
         self._sort()
 
-    def _sort(self) -> None:
+    def _sort(self, par: bool = False) -> None:
         st = self.store
-        st.n = counting_sort(st.n, st.key, self.nkeys, self.key_start, st.state, st.spare,
-                             st.key_spare)
+        if par:
+            st.n = counting_sort_par(st.n, st.key, self.nkeys, self.key_start, st.state,
+                                     st.spare, st.key_spare, numba.get_num_threads())
+        else:
+            st.n = counting_sort(st.n, st.key, self.nkeys, self.key_start, st.state, st.spare,
+                                 st.key_spare, 1)
         st.swap()
 
     # ------------------------------------------------------------------ the loop
@@ -226,34 +237,41 @@ class Simulation:
         stally = acc.surf[acc.batch] if sampling else self._dummy_surf
         ftally = acc.flux[acc.batch] if sampling else self._no_flux
         tally = sampling or watch
+        mkey = step_key(self.rng_key, self.clock.step, SALT_MOVE)
+        par = run_parallel(n1)
         if self.axi:
             st.reserve(n1 + max(4096, n1 // 4))
             s = st.state
-            st.n, lost = move_all_axi(
+            st.n, lost = (move_all_axi_par if par else move_all_axi)(
                 n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key, g.segs,
                 g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows, stally, ftally,
                 tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free, g.row_weight,
-                st.capacity, self.row_balance)
+                st.capacity, self.row_balance, mkey)
             self.lost_duplicates += lost
         else:
-            move_all(n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key,
-                     g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows, stally,
-                     ftally, tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free)
+            (move_all_par if par else move_all)(
+                n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key, g.segs,
+                g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows, stally, ftally,
+                tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free, mkey)
         t2 = time.perf_counter()
-        self._sort()
+        self._sort(par)
         s = st.state
         t3 = tc = time.perf_counter()
-        if sampling:  # half the sample before collisions (see rarefy.kernels.sample)
-            self._sample(s, 0.5)
+        if sampling and len(self.probes):  # half the probe sample before collisions
+            self._sample_probes(s, 0.5)
             tc = time.perf_counter()
             ph["sample"] += tc - t3
         self.coll_stats[:] = 0.0
-        collide_cells(g.ncell, self.nsub, self.key_start, s[X], s[Y], s[VX], s[VY], s[VZ],
-                      g.volume, self.sigcr_max, self.remainder, self.cell_fnum, self.dt,
-                      self.a_coef, self.exponent, self.model.alpha, self.coll_stats)
+        (collide_cells_par if par else collide_cells)(
+            g.ncell, self.nsub, self.key_start, s[X], s[Y], s[VX], s[VY], s[VZ], g.volume,
+            self.sigcr_max, self.remainder, self.cell_fnum, self.dt, self.a_coef,
+            self.exponent, self.model.alpha,
+            step_key(self.rng_key, self.clock.step, SALT_COLLIDE), acc.cell_batch, sampling,
+            self.coll_stats)
         t4 = time.perf_counter()
         if sampling:
-            self._sample(s, 0.5)
+            if len(self.probes):
+                self._sample_probes(s, 0.5)
             acc.collisions[acc.batch] += self.coll_stats
             acc.end_step(st.n, self._batch_fields)
         t5 = time.perf_counter()
@@ -263,15 +281,13 @@ class Simulation:
         self.clock.time_s += self.dt
         self.clock.particle_steps += st.n
 
-    def _sample(self, s: np.ndarray, weight: float) -> None:
-        """Cell moments and probe histograms of the sorted particles, with ``weight``."""
+    def _sample_probes(self, s: np.ndarray, weight: float) -> None:
+        """Probe sums and histograms of the sorted particles, with ``weight`` (the cell
+        moments are sampled inside the collision kernel)."""
         g, acc, pr = self.geom, self.acc, self.probes
-        sample_cells(g.ncell, self.nsub, self.key_start, s[VX], s[VY], s[VZ], acc.cell_batch,
-                     weight)
-        if len(pr):
-            sample_probes(pr.box, pr.cells, pr.cell_start, self.nsub, self.key_start,
-                          self.cell_weight, s[X], s[Y], s[VX], s[VY], s[VZ], self.speed_max,
-                          acc.probe_mom[acc.batch], acc.probe_hist[acc.batch], weight)
+        sample_probes(pr.box, pr.cells, pr.cell_start, self.nsub, self.key_start,
+                      self.cell_weight, s[X], s[Y], s[VX], s[VY], s[VZ], self.speed_max,
+                      acc.probe_mom[acc.batch], acc.probe_hist[acc.batch], weight)
 
     def _batch_fields(self, sums: np.ndarray, nsteps: int) -> dict:
         return fields_from_moments(sums, nsteps, self.geom.volume, self.mass, self.cell_fnum)

@@ -1,4 +1,5 @@
-"""No-Time-Counter (NTC) collisions for HS, VHS and VSS molecules (one species).
+"""No-Time-Counter (NTC) collisions for HS, VHS and VSS molecules (one species), fused
+with the cell sampling.
 
 Per cell, the number of candidate pairs is (1/2) N (N - 1) F_N (sigma c_r)_max dt / V_c,
 with the fractional part carried to the next step; a candidate is accepted with
@@ -13,43 +14,51 @@ hard spheres are omega = 1/2). Scattering: cos(chi) = 2 R^(1/alpha) - 1 (VSS,
 Koura & Matsumoto 1991; alpha = 1 is isotropic VHS/HS), applied relative to
 the pre-collision relative velocity (Bird 1994 eq. 2.22). Momentum and energy
 are conserved to round-off.
+
+The cells are independent, so the loop over them runs in parallel (``prange``).
+Random numbers come from one counter-based stream per cell keyed by (seed, step,
+cell) (``rarefy.kernels.rng``), so the result does not depend on the thread count.
+A point uniform in the unit disk gives the azimuth without sine or cosine and, through
+its squared radius q (uniform on (0, 1), independent of the azimuth), the deflection:
+isotropic directions are then Marsaglia's (1972) (2q - 1, 2u sqrt(1 - q), 2v sqrt(1 - q)).
+
+When sampling, each cell's moments are added with weight 1/2 before and after its
+collisions while the cell is in cache (see ``rarefy.kernels.sample``).
 """
 
 import numpy as np
-from numba import njit
+from numba import njit, prange
 
-from rarefy.kernels.config import JIT
+from rarefy.kernels.config import JIT, serial_and_parallel
+from rarefy.kernels.rng import stream, uniform, unit_disk
+from rarefy.kernels.sample import add_cell_moments
 
 
-@njit(**JIT)
-def scatter(urx, ury, urz, alpha):
-    """Post-collision relative velocity for a VSS (alpha) or VHS (alpha = 1) pair."""
-    cr = np.sqrt(urx * urx + ury * ury + urz * urz)
-    if alpha == 1.0:
-        cosx = 2.0 * np.random.random() - 1.0
-    else:
-        cosx = 2.0 * np.random.random() ** (1.0 / alpha) - 1.0
-    sinx = np.sqrt(max(0.0, 1.0 - cosx * cosx))
-    eps = 2.0 * np.pi * np.random.random()
-    ce = np.cos(eps)
-    se = np.sin(eps)
+@njit(inline="always", **JIT)
+def scatter(s, urx, ury, urz, cr, alpha):
+    """(next counter, post-collision relative velocity) for a VSS (alpha) or VHS/HS
+    (alpha = 1) pair of relative speed ``cr`` > 0."""
+    s, ce, se, q = unit_disk(s)
     if alpha == 1.0:
         # isotropic: direction independent of the incoming one
-        return cr * cosx, cr * sinx * ce, cr * sinx * se
+        f = 2.0 * cr * np.sqrt(1.0 - q) * np.sqrt(q)
+        return s, cr * (2.0 * q - 1.0), f * ce, f * se
+    cosx = 2.0 * q ** (1.0 / alpha) - 1.0
+    sinx = np.sqrt(max(0.0, 1.0 - cosx * cosx))
     vw = np.sqrt(ury * ury + urz * urz)
     if vw > 1e-10 * cr:
         nx = cosx * urx + sinx * se * vw
         ny = cosx * ury + sinx * (cr * urz * ce - urx * ury * se) / vw
         nz = cosx * urz - sinx * (cr * ury * ce + urx * urz * se) / vw
-        return nx, ny, nz
-    s = 1.0 if urx >= 0.0 else -1.0
-    return s * cr * cosx, cr * sinx * ce, cr * sinx * se
+        return s, nx, ny, nz
+    sg = 1.0 if urx >= 0.0 else -1.0
+    return s, sg * cr * cosx, cr * sinx * ce, cr * sinx * se
 
 
-@njit(**JIT)
-def collide_cells(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
-                  cell_fnum, dt, a_coef, exponent, alpha, stats):
-    """NTC collisions in every cell.
+def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
+                  cell_fnum, dt, a_coef, exponent, alpha, rng_key, moments, sampling,
+                  stats):
+    """NTC collisions in every cell; with ``sampling``, also the cell moments.
 
     Parameters
     ----------
@@ -58,22 +67,37 @@ def collide_cells(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max, r
     sigcr_max, remainder : float64[ncell], kept between steps.
     cell_fnum : float64[ncell], real molecules per simulated particle in each cell.
     a_coef, exponent : sigma_T c_r = a_coef * c_r**exponent (m^3/s).
+    rng_key : uint64, this step's key of the per-cell random streams.
+    moments : float64[ncell, N_MOMENTS] receives half the moments before and half after
+        the collisions when ``sampling``.
     stats : float64[3] accumulates (collisions, sum of pair separations (m), candidates).
     """
     ns2 = nsub * nsub
-    for c in range(ncell):
+    hard = exponent == 1.0
+    n_coll = 0.0
+    sep = 0.0
+    n_cand = 0.0
+    for c in prange(ncell):
         lo = key_start[c * ns2]
         hi = key_start[(c + 1) * ns2]
         npart = hi - lo
+        if sampling and npart > 0:
+            add_cell_moments(lo, hi, vx, vy, vz, moments, c, 0.5)
         if npart < 2 or volume[c] <= 0.0:
+            if sampling and npart > 0:
+                add_cell_moments(lo, hi, vx, vy, vz, moments, c, 0.5)
             continue
         expected = 0.5 * npart * (npart - 1) * cell_fnum[c] * sigcr_max[c] * dt / volume[c] \
             + remainder[c]
         ncand = int(expected)
         remainder[c] = expected - ncand
-        stats[2] += ncand
+        s = stream(rng_key, c)
+        cmax = sigcr_max[c]
+        c_coll = 0
+        c_sep = 0.0
         for _ in range(ncand):
-            i = lo + int(np.random.random() * npart)
+            s, r = uniform(s)
+            i = lo + int(r * npart)
             if i >= hi:
                 i = hi - 1
             # sub-cell of i: search its key range
@@ -82,12 +106,13 @@ def collide_cells(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max, r
                 k += 1
             slo = key_start[k]
             shi = key_start[k + 1]
+            s, r = uniform(s)
             if shi - slo >= 2:
-                j = slo + int(np.random.random() * (shi - slo - 1))
+                j = slo + int(r * (shi - slo - 1))
                 if j >= i:
                     j += 1
             else:
-                j = lo + int(np.random.random() * (npart - 1))
+                j = lo + int(r * (npart - 1))
                 if j >= i:
                     j += 1
             if j >= hi:
@@ -98,22 +123,35 @@ def collide_cells(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max, r
             cr = np.sqrt(urx * urx + ury * ury + urz * urz)
             if cr == 0.0:
                 continue
-            sigcr = a_coef * cr ** exponent
-            if sigcr > sigcr_max[c]:
-                sigcr_max[c] = sigcr
-            if np.random.random() * sigcr_max[c] > sigcr:
+            sigcr = a_coef * cr if hard else a_coef * cr ** exponent
+            if sigcr > cmax:
+                cmax = sigcr
+            s, r = uniform(s)
+            if r * cmax > sigcr:
                 continue
             cmx = 0.5 * (vx[i] + vx[j])
             cmy = 0.5 * (vy[i] + vy[j])
             cmz = 0.5 * (vz[i] + vz[j])
-            nx, ny, nz = scatter(urx, ury, urz, alpha)
+            s, nx, ny, nz = scatter(s, urx, ury, urz, cr, alpha)
             vx[i] = cmx + 0.5 * nx
             vy[i] = cmy + 0.5 * ny
             vz[i] = cmz + 0.5 * nz
             vx[j] = cmx - 0.5 * nx
             vy[j] = cmy - 0.5 * ny
             vz[j] = cmz - 0.5 * nz
-            stats[0] += 1.0
+            c_coll += 1
             dxs = x[i] - x[j]
             dys = y[i] - y[j]
-            stats[1] += np.sqrt(dxs * dxs + dys * dys)
+            c_sep += np.sqrt(dxs * dxs + dys * dys)
+        sigcr_max[c] = cmax
+        if sampling:
+            add_cell_moments(lo, hi, vx, vy, vz, moments, c, 0.5)
+        n_coll += c_coll
+        sep += c_sep
+        n_cand += ncand
+    stats[0] += n_coll
+    stats[1] += sep
+    stats[2] += n_cand
+
+
+collide_cells, collide_cells_par = serial_and_parallel(collide_cells_py)

@@ -3,9 +3,29 @@
 ``JIT`` is the keyword set for ``numba.njit``: compiled code is cached on disk
 (``cache=True``) so a second start pays no compile time; ``fastmath`` stays off
 because the collision kernel must conserve momentum and energy to round-off.
+``PAR`` adds ``parallel=True``; :func:`serial_and_parallel` compiles a kernel both ways.
 """
 
+import types
+
+from numba import njit
+
 JIT = dict(cache=True, nogil=True, fastmath=False, error_model="numpy")
+PAR = dict(JIT, parallel=True)
+
+
+def serial_and_parallel(py_func):
+    """Compile ``py_func`` (a kernel written with ``prange``) twice: serial (``prange``
+    runs as ``range``) and parallel. Returns (serial, parallel). Both compute the same
+    thing in the same order per work unit; the engine takes the serial one on one thread
+    or for small particle counts, where starting the thread pool costs more than it
+    saves. The twin gets its own name so that the two land in separate cache files."""
+    twin = types.FunctionType(py_func.__code__, py_func.__globals__,
+                              py_func.__name__ + "_serial", py_func.__defaults__,
+                              py_func.__closure__)
+    twin.__qualname__ = py_func.__qualname__ + "_serial"
+    twin.__doc__ = py_func.__doc__
+    return njit(**JIT)(twin), njit(**PAR)(py_func)
 
 # Integer codes shared by the engine and the kernels.
 SIDE_XMIN, SIDE_XMAX, SIDE_YMIN, SIDE_YMAX = 0, 1, 2, 3

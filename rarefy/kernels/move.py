@@ -20,32 +20,40 @@ histograms.
 """
 
 import numpy as np
-from numba import njit
+from numba import njit, prange
 
 from rarefy.kernels.config import (
     BND_ABSORB, BND_PERIODIC, F_C2_NEG, F_C2_POS, F_C_NEG, F_C_POS, F_HIST, F_N_NEG, F_N_POS,
-    JIT, PL_INV_DV, PL_NBINS, P_ACC, P_END, P_SIGMA, P_START, P_VEL, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN, T_C2_IN, T_C2_OUT,
+    JIT, PL_INV_DV, PL_NBINS, serial_and_parallel, P_ACC, P_END, P_SIGMA, P_START, P_VEL, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN, T_C2_IN, T_C2_OUT,
     T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, W_ACC, W_SIGMA, W_VEL, W_X0, W_X1, W_Y0,
     W_Y1,
 )
+from rarefy.kernels.rng import normal, stream, uniform
 
 MAX_EVENTS = 1000  # events in one step before a particle is declared lost
+# Tallying moves run in at most MAX_CHUNKS chunks of at least CHUNK_PARTICLES particles.
+MAX_CHUNKS = 64
+CHUNK_PARTICLES = 8192
 
 
-@njit(**JIT)
-def reflect(vx, vy, vz, nx, ny, sigma, acc, vel, tx, ty):
+@njit(inline="always", **JIT)
+def reflect(s, vx, vy, vz, nx, ny, sigma, acc, vel, tx, ty):
     """Post-interaction velocity at a surface with unit normal (nx, ny) into the gas.
 
-    (tx, ty) is the unit tangent along which the wall moves at speed ``vel``.
-    Returns the new (vx, vy, vz). Diffuse with probability ``acc`` (Maxwell model).
+    (tx, ty) is the unit tangent along which the wall moves at speed ``vel``; ``s`` is
+    the particle's random stream (``rarefy.kernels.rng``). Returns (next counter, new
+    vx, vy, vz). Diffuse with probability ``acc`` (Maxwell model).
     """
-    if np.random.random() < acc:
-        vn = sigma * np.sqrt(-2.0 * np.log(1.0 - np.random.random()))
-        vt = sigma * np.random.standard_normal() + vel
-        vz_new = sigma * np.random.standard_normal()
-        return vn * nx + vt * tx, vn * ny + vt * ty, vz_new
+    s, r = uniform(s)
+    if r < acc:
+        s, r = uniform(s)
+        vn = sigma * np.sqrt(-2.0 * np.log(1.0 - r))
+        s, g1 = normal(s)
+        s, g2 = normal(s)
+        vt = sigma * g1 + vel
+        return s, vn * nx + vt * tx, vn * ny + vt * ty, sigma * g2
     vdotn = vx * nx + vy * ny
-    return vx - 2.0 * vdotn * nx, vy - 2.0 * vdotn * ny, vz
+    return s, vx - 2.0 * vdotn * nx, vy - 2.0 * vdotn * ny, vz
 
 
 @njit(**JIT)
@@ -143,8 +151,11 @@ def _facet_of(first, nbins, frac):
 
 @njit(inline="always", **JIT)
 def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, planes,
-             stally, ftally, sampling, nudge):
-    """Move particle ``i`` for time ``t`` (s). Returns False if it left the domain."""
+             stally, ftally, sampling, nudge, rng_key):
+    """Move particle ``i`` for time ``t`` (s). Returns False if it left the domain.
+
+    Surface interactions draw from the particle's stream under ``rng_key``."""
+    s = stream(rng_key, i)
     last = -1
     for _event in range(MAX_EVENTS):
         px = x[i]
@@ -213,8 +224,8 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
             hx = px + ux * t_hit
             hy = py + uy * t_hit
             w0x, w0y, w0z = ux, uy, vz[i]
-            nvx, nvy, nvz = reflect(w0x, w0y, w0z, nx, ny, segs[k_hit, W_SIGMA],
-                                    segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, ty)
+            s, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny, segs[k_hit, W_SIGMA],
+                                       segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, ty)
             if sampling and seg_tally[k_hit, 1] > 0:
                 f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit)
                 _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, 1.0)
@@ -261,8 +272,8 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
         # reflecting side: inward normal, tangent along +x (y-sides) or +y (x-sides)
         nx, ny, tx, ty = side_frame(side)
         w0x, w0y, w0z = ux, uy, vz[i]
-        nvx, nvy, nvz = reflect(w0x, w0y, w0z, nx, ny, pieces[j, P_SIGMA], pieces[j, P_ACC],
-                                pieces[j, P_VEL], tx, ty)
+        s, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny, pieces[j, P_SIGMA],
+                                   pieces[j, P_ACC], pieces[j, P_VEL], tx, ty)
         if sampling and piece_int[j, 3] > 0:
             frac = (coord - pieces[j, P_START]) / (pieces[j, P_END] - pieces[j, P_START])
             f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac)
@@ -303,9 +314,22 @@ def cell_key(px, py, box, nx, ny, dx, dy, nsub):
     return ((iy * nx + ix) * nsub + sy) * nsub + sx
 
 
-@njit(**JIT)
-def move_all(n, first_new, tfrac, dt, x, y, vx, vy, vz, key, segs, seg_tally, box, pieces,
-             piece_int, planes, stally, ftally, sampling, nudge, nx, ny, dx, dy, nsub, free):
+@njit(inline="always", **JIT)
+def chunks(n):
+    """Number of fixed chunks the parallel move loops cut particles 0..n-1 into: each
+    chunk tallies into its own copy of the surface and flux-plane sums, added in chunk
+    order afterwards, so the sums do not depend on the thread count."""
+    return max(1, min(MAX_CHUNKS, n // CHUNK_PARTICLES))
+
+
+@njit(inline="always", **JIT)
+def chunk_bounds(n, nchunk, ch):
+    return (n * ch) // nchunk, (n * (ch + 1)) // nchunk
+
+
+def move_all_py(n, first_new, tfrac, dt, x, y, vx, vy, vz, key, segs, seg_tally, box, pieces,
+             piece_int, planes, stally, ftally, sampling, nudge, nx, ny, dx, dy, nsub, free,
+             rng_key):
     """Move particles 0..n-1: older ones for ``dt``, those from ``first_new`` on for
     ``tfrac[i - first_new] * dt``. Writes each particle's sort key (-1: removed).
 
@@ -313,32 +337,52 @@ def move_all(n, first_new, tfrac, dt, x, y, vx, vy, vz, key, segs, seg_tally, bo
     a flight shorter than a cell that starts there cannot meet one, and if it also
     ends inside the domain it needs no event search (the fast path).
 
-    Returns the number of particles removed.
+    Particles move in parallel, in :func:`chunks`; ``rng_key`` keys the per-particle
+    random streams of the surface interactions. Returns the number of particles removed.
     """
+    nchunk = chunks(n)
+    ntally = nchunk if sampling else 1   # without tallies the copies are never written
+    tstride = np.int64(1) if sampling else np.int64(0)
+    st = np.zeros((ntally,) + stally.shape)
+    ft = np.zeros((ntally,) + ftally.shape)
     removed = 0
-    for i in range(n):
-        t = dt if i < first_new else tfrac[i - first_new] * dt
-        px = x[i]
-        py = y[i]
-        qx = px + vx[i] * t
-        qy = py + vy[i] * t
-        if (qx > box[0] and qx < box[1] and qy > box[2] and qy < box[3]
-                and abs(qx - px) < dx and abs(qy - py) < dy):
-            ix = min(max(int((px - box[0]) / dx), 0), nx - 1)
-            iy = min(max(int((py - box[2]) / dy), 0), ny - 1)
-            if free[iy * nx + ix]:
-                x[i] = qx
-                y[i] = qy
-                key[i] = cell_key(qx, qy, box, nx, ny, dx, dy, nsub)
-                continue
-        alive = move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int,
-                         planes, stally, ftally, sampling, nudge)
-        if alive:
-            key[i] = cell_key(x[i], y[i], box, nx, ny, dx, dy, nsub)
-        else:
-            key[i] = -1
-            removed += 1
+    for ch in prange(nchunk):
+        lo, hi = chunk_bounds(n, nchunk, ch)
+        ti = np.int64(ch) * tstride
+        stc = st[ti]
+        ftc = ft[ti]
+        gone = 0
+        for i in range(lo, hi):
+            t = dt if i < first_new else tfrac[i - first_new] * dt
+            px = x[i]
+            py = y[i]
+            qx = px + vx[i] * t
+            qy = py + vy[i] * t
+            if (qx > box[0] and qx < box[1] and qy > box[2] and qy < box[3]
+                    and abs(qx - px) < dx and abs(qy - py) < dy):
+                ix = min(max(int((px - box[0]) / dx), 0), nx - 1)
+                iy = min(max(int((py - box[2]) / dy), 0), ny - 1)
+                if free[iy * nx + ix]:
+                    x[i] = qx
+                    y[i] = qy
+                    key[i] = cell_key(qx, qy, box, nx, ny, dx, dy, nsub)
+                    continue
+            alive = move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int,
+                             planes, stc, ftc, sampling, nudge, rng_key)
+            if alive:
+                key[i] = cell_key(x[i], y[i], box, nx, ny, dx, dy, nsub)
+            else:
+                key[i] = -1
+                gone += 1
+        removed += gone
+    if sampling:
+        for ch in range(nchunk):
+            stally += st[ch]
+            ftally += ft[ch]
     return removed
+
+
+move_all, move_all_par = serial_and_parallel(move_all_py)
 
 
 @njit(**JIT)

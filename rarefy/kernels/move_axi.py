@@ -26,16 +26,17 @@ particle arrays after the first ``n`` particles.
 """
 
 import numpy as np
-from numba import njit
+from numba import njit, prange
 
 from rarefy.kernels.config import (
     BND_ABSORB, BND_PERIODIC, JIT, P_ACC, P_END, P_SIGMA, P_START, P_VEL, SIDE_XMAX,
-    SIDE_XMIN, SIDE_YMAX, W_ACC, W_SIGMA, W_VEL, W_X0, W_X1, W_Y0, W_Y1,
+    SIDE_XMIN, SIDE_YMAX, W_ACC, W_SIGMA, W_VEL, W_X0, W_X1, W_Y0, W_Y1, serial_and_parallel,
 )
 from rarefy.kernels.move import (
-    MAX_EVENTS, _facet_of, _tally_surface, cell_key, find_piece, reflect, side_frame,
-    tally_crossing,
+    MAX_EVENTS, _facet_of, _tally_surface, cell_key, chunk_bounds, chunks, find_piece,
+    reflect, side_frame, tally_crossing,
 )
+from rarefy.kernels.rng import stream
 
 
 @njit(inline="always", **JIT)
@@ -117,8 +118,10 @@ def _cross_planes_axi(px, pr, ux, ur, ut, t, planes, ftally, w):
 
 @njit(inline="always", **JIT)
 def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int, planes,
-                 stally, ftally, sampling, nudge, w):
-    """Move particle ``i`` for time ``t`` (s); False if it left the domain."""
+                 stally, ftally, sampling, nudge, w, rng_key):
+    """Move particle ``i`` for time ``t`` (s); False if it left the domain. Surface
+    interactions draw from the particle's stream under ``rng_key``."""
+    s = stream(rng_key, i)
     for _event in range(MAX_EVENTS):
         px = x[i]
         pr = r[i]
@@ -178,8 +181,8 @@ def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int
             if ux * nx + wr * nr > 0.0:
                 nx = -nx
                 nr = -nr
-            nvx, nvr, nvt = reflect(ux, wr, wt, nx, nr, segs[k_hit, W_SIGMA],
-                                    segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, tr_)
+            s, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, segs[k_hit, W_SIGMA],
+                                       segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, tr_)
             if sampling and seg_tally[k_hit, 1] > 0:
                 f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit)
                 _tally_surface(stally, f, ux, wr, wt, nvx, nvr, nvt, nx, nr, tx, tr_, w)
@@ -208,8 +211,8 @@ def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int
             vt[i] = wt
             continue
         nx, nr, tx, tr_ = side_frame(side)   # the axis (ymin) is never met
-        nvx, nvr, nvt = reflect(ux, wr, wt, nx, nr, pieces[j, P_SIGMA], pieces[j, P_ACC],
-                                pieces[j, P_VEL], tx, tr_)
+        s, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, pieces[j, P_SIGMA],
+                                   pieces[j, P_ACC], pieces[j, P_VEL], tx, tr_)
         if sampling and piece_int[j, 3] > 0:
             frac = (coord - pieces[j, P_START]) / (pieces[j, P_END] - pieces[j, P_START])
             f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac)
@@ -222,52 +225,75 @@ def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int
     return False
 
 
-@njit(**JIT)
-def move_all_axi(n, first_new, tfrac, dt, x, r, vx, vr, vt, key, segs, seg_tally, box,
+def move_all_axi_py(n, first_new, tfrac, dt, x, r, vx, vr, vt, key, segs, seg_tally, box,
                  pieces, piece_int, planes, stally, ftally, sampling, nudge, nx, ny, dx, dr,
-                 nsub, free, row_weight, capacity, balance):
+                 nsub, free, row_weight, capacity, balance, rng_key):
     """Move particles 0..n-1 (those from ``first_new`` on for ``tfrac * dt``), apply the
     radial weights and write sort keys (-1: removed).
 
+    The flights run in parallel in fixed chunks (``rarefy.kernels.move.chunks``, with
+    per-chunk tallies); ``rng_key`` keys the per-particle streams of the surface
+    interactions. The radial weights are then applied in one serial pass in particle
+    order, because the rounding remainders are carried from particle to particle.
     Duplicates go to slots n, n+1, ... up to ``capacity``. ``balance[0, j]`` and
     ``balance[1, j]`` carry the fractional molecules not yet added to and removed from
     radial row j (start them at random in [0, 1)). Returns (new particle count,
     duplicates that did not fit).
     """
+    nchunk = chunks(n)
+    ntally = nchunk if sampling else 1   # without tallies the copies are never written
+    tstride = np.int64(1) if sampling else np.int64(0)
+    st = np.zeros((ntally,) + stally.shape)
+    ft = np.zeros((ntally,) + ftally.shape)
+    row_from = np.empty(n, np.int32)     # old radial row of a particle that changed row
+    for ch in prange(nchunk):
+        lo, hi = chunk_bounds(n, nchunk, ch)
+        ti = np.int64(ch) * tstride
+        stc = st[ti]
+        ftc = ft[ti]
+        for i in range(lo, hi):
+            row_from[i] = -1
+            t = dt if i < first_new else tfrac[i - first_new] * dt
+            px = x[i]
+            pr = r[i]
+            j0 = min(int(pr / dr), ny - 1)
+            qx = px + vx[i] * t
+            ddr = np.sqrt(vr[i] * vr[i] + vt[i] * vt[i]) * t
+            fast = False
+            if qx > box[0] and qx < box[1] and abs(qx - px) < dx and ddr < dr \
+                    and pr + ddr < box[3]:
+                ix = min(max(int((px - box[0]) / dx), 0), nx - 1)
+                fast = free[j0 * nx + ix] == 1
+            if fast:
+                x[i] = qx
+                r[i], vr[i], vt[i] = rotate_to(pr, vr[i], vt[i], t)
+                alive = True
+            else:
+                alive = move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces,
+                                     piece_int, planes, stc, ftc, sampling, nudge,
+                                     row_weight[j0], rng_key)
+            if not alive:
+                key[i] = -1
+                continue
+            key[i] = cell_key(x[i], r[i], box, nx, ny, dx, dr, nsub)
+            if min(int(r[i] / dr), ny - 1) != j0:
+                row_from[i] = j0
+    if sampling:
+        for ch in range(nchunk):
+            stally += st[ch]
+            ftally += ft[ch]
     m = n
     lost = 0
     for i in range(n):
-        t = dt if i < first_new else tfrac[i - first_new] * dt
-        px = x[i]
-        pr = r[i]
-        j0 = min(int(pr / dr), ny - 1)
-        w0 = row_weight[j0]
-        qx = px + vx[i] * t
-        ddr = np.sqrt(vr[i] * vr[i] + vt[i] * vt[i]) * t
-        fast = False
-        if qx > box[0] and qx < box[1] and abs(qx - px) < dx and ddr < dr \
-                and pr + ddr < box[3]:
-            ix = min(max(int((px - box[0]) / dx), 0), nx - 1)
-            fast = free[j0 * nx + ix] == 1
-        if fast:
-            x[i] = qx
-            r[i], vr[i], vt[i] = rotate_to(pr, vr[i], vt[i], t)
-            alive = True
-        else:
-            alive = move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces,
-                                 piece_int, planes, stally, ftally, sampling, nudge, w0)
-        if not alive:
-            key[i] = -1
+        j0 = row_from[i]
+        if j0 < 0:
             continue
         j1 = min(int(r[i] / dr), ny - 1)
-        k = cell_key(x[i], r[i], box, nx, ny, dx, dr, nsub)
-        key[i] = k
-        if j1 == j0:
-            continue
+        k = key[i]
         # weight change: w0 / w1 - 1 molecules to add (< 0: to remove). Gains and losses
         # each carry their rounding remainder per row (error diffusion), so the gas in a
         # closed vessel stays put and neither kind of move pays for the other
-        ratio = w0 / row_weight[j1]
+        ratio = row_weight[j0] / row_weight[j1]
         if ratio < 1.0:
             b = balance[1, j1] + 1.0 - ratio
             if b >= 1.0:
@@ -291,3 +317,6 @@ def move_all_axi(n, first_new, tfrac, dt, x, r, vx, vr, vt, key, segs, seg_tally
             key[m] = k
             m += 1
     return m, lost
+
+
+move_all_axi, move_all_axi_par = serial_and_parallel(move_all_axi_py)

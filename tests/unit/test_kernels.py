@@ -4,8 +4,8 @@ Tags as in shared/reference/published-values.md: P published value seen in a
 source; M published value from memory; S computed independently here (method
 stated beside the check); T common vacuum-engineering practice.
 
-Statistical checks use fixed seeds (``seed_generator`` seeds the kernels' numba
-stream). Kolmogorov-Smirnov tests use 4e4 or more samples, so they detect a CDF
+Statistical checks use fixed seeds (``seed_generator`` seeds the injection kernel's
+numba stream; the other kernels draw from counter-based streams under a fixed key). Kolmogorov-Smirnov tests use 4e4 or more samples, so they detect a CDF
 error of about 1 % (the KS critical distance 1.95 / sqrt(n) at p = 1e-3); each
 distribution test is paired with a wrong-distribution check that must fail, to
 show the test has the power to fail.
@@ -15,6 +15,7 @@ import math
 
 import numpy as np
 from matplotlib.path import Path
+from numba import njit
 import pytest
 from scipy import integrate, stats
 
@@ -25,12 +26,14 @@ from rarefy.geometry.cutcell import solid_area_per_cell
 from rarefy.kernels.collide import collide_cells, scatter
 from rarefy.kernels.config import (
     BND_PERIODIC, BND_REFLECT, N_FLUX_TALLY, N_SURF_TALLY, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX,
-    SIDE_YMIN, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT,
+    SIDE_YMIN, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, N_MOMENTS,
 )
-from rarefy.kernels.index import counting_sort
+from rarefy.kernels.index import counting_sort, counting_sort_par
+from rarefy.kernels.rng import step_key, stream
 from rarefy.kernels.inject import flux_weighted_normal, seed_generator
 from rarefy.kernels.move import move_all
 
+KEY = step_key(2024, 0, 1)   # a fixed key for the counter-based streams
 P_MIN = 1e-3        # KS acceptance for a correct distribution (fixed seed)
 P_WRONG = 1e-6      # KS p-value a wrong distribution must fall below
 AR = get_species("Ar")
@@ -49,6 +52,14 @@ def _one_cell(velocities, sub_counts, rng):
     v = np.array(velocities, dtype=np.float64)
     return (np.concatenate(xs), np.concatenate(ys), v[:, 0].copy(), v[:, 1].copy(),
             v[:, 2].copy(), key_start)
+
+
+def _moments_twin(vx, vy, vz):
+    """Slow twin of the cell moments (rarefy.kernels.config M_* order)."""
+    c2 = vx * vx + vy * vy + vz * vz
+    return np.array([len(vx), vx.sum(), vy.sum(), vz.sum(), (vx * vx).sum(), (vy * vy).sum(),
+                     (vz * vz).sum(), (vx * vy).sum(), (vx * vz).sum(), (vy * vz).sum(),
+                     (c2 * vx).sum(), (c2 * vy).sum(), c2.sum()])
 
 
 def _totals(vx, vy, vz):
@@ -82,11 +93,14 @@ def test_collide_cells_conserves_momentum_and_energy(kind, alpha):
     fnum = ncand_target * volume[0] / (0.5 * n * (n - 1) * sigcr_max[0] * dt)
     stats_ = np.zeros(3)
     p0, scale, e0 = _totals(vx, vy, vz)
-    seed_generator(5)
+    moments = np.zeros((1, N_MOMENTS))
+    pre = _moments_twin(vx, vy, vz)
     collide_cells(1, 2, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
-                  np.array([fnum]), dt,
-                  a_coef, exponent, alpha, stats_)
+                  np.array([fnum]), dt, a_coef, exponent, alpha, KEY, moments, True, stats_)
     p1, _, e1 = _totals(vx, vy, vz)
+    # the fused sampling adds half the moments before and half after the collisions
+    np.testing.assert_allclose(moments[0], 0.5 * (pre + _moments_twin(vx, vy, vz)),
+                               rtol=1e-12)
     assert stats_[2] == 6000             # NTC candidate count (Bird 1994 sec. 11.1, M)
     assert remainder[0] == pytest.approx(0.5, abs=1e-6)
     assert stats_[0] > 2000                       # many collisions were actually made
@@ -106,8 +120,7 @@ def test_every_single_collision_conserves_and_keeps_relative_speed(alpha):
     x = np.array([0.1, 0.2])
     y = np.array([0.3, 0.4])
     volume = np.array([1.0])
-    seed_generator(6)
-    for _ in range(2000):
+    for step in range(2000):
         v = 400.0 * rng.standard_normal((2, 3)) + 300.0 * rng.standard_normal(3)
         vx, vy, vz = v[:, 0].copy(), v[:, 1].copy(), v[:, 2].copy()
         sigcr_max = np.array([1e-30])
@@ -115,8 +128,8 @@ def test_every_single_collision_conserves_and_keeps_relative_speed(alpha):
         fnum = 1.5 / (1e-30 * dt)   # 0.5 * 2 * 1 * fnum * sigcr_max * dt / V = 1.5
         st = np.zeros(3)
         collide_cells(1, 1, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
-                      np.array([fnum]),
-                      dt, a_coef, exponent, alpha, st)
+                      np.array([fnum]), dt, a_coef, exponent, alpha,
+                      step_key(7, step, 1), np.zeros((1, N_MOMENTS)), False, st)
         assert st[0] == 1.0 and st[2] == 1.0
         assert st[1] == pytest.approx(math.hypot(0.1, 0.1), rel=1e-12)
         p0, scale, e0 = _totals(v[:, 0], v[:, 1], v[:, 2])
@@ -136,11 +149,17 @@ def _scatter_many(alpha, n, rng):
     u[:k, 1:] = 0.0
     u[: k // 2, 0] = np.abs(u[: k // 2, 0])
     u[k // 2:k, 0] = -np.abs(u[k // 2:k, 0])
+    return u, _scatter_all(u, alpha, KEY)
+
+
+@njit
+def _scatter_all(u, alpha, key):
     out = np.empty_like(u)
-    seed_generator(7)
-    for i in range(n):
-        out[i] = scatter(u[i, 0], u[i, 1], u[i, 2], alpha)
-    return u, out
+    s = stream(key, 0)
+    for i in range(u.shape[0]):
+        cr = np.sqrt(u[i, 0] ** 2 + u[i, 1] ** 2 + u[i, 2] ** 2)
+        s, out[i, 0], out[i, 1], out[i, 2] = scatter(s, u[i, 0], u[i, 1], u[i, 2], cr, alpha)
+    return out
 
 
 def _vss_cdf(alpha):
@@ -213,18 +232,20 @@ def test_flux_weighted_normal_distribution(s):
 
 # ============================================================== counting sort
 @pytest.mark.parametrize("n, nkeys, removed", [(5000, 37, 0.1), (3000, 1, 0.3), (400, 900, 0.05),
-                                               (50, 8, 1.0), (0, 5, 0.0)])
-def test_counting_sort_matches_stable_argsort(n, nkeys, removed):
+                                               (50, 8, 1.0), (0, 5, 0.0),
+                                               (300001, 5000, 0.02)])  # one chunk per thread
+@pytest.mark.parametrize("sort", [counting_sort, counting_sort_par])
+def test_counting_sort_matches_stable_argsort(n, nkeys, removed, sort):
     rng = np.random.default_rng(31)
     cap = n + 17
-    key = rng.integers(0, nkeys, cap).astype(np.int64)
+    key = rng.integers(0, nkeys, cap).astype(np.int32)
     key[:n][rng.random(n) < removed] = -1
     key[n:] = rng.integers(-1, nkeys, cap - n)         # stale entries past n are ignored
     src = rng.standard_normal((5, cap))
     dst = np.full((5, cap), np.nan)
-    key_out = np.full(cap, -7, dtype=np.int64)
+    key_out = np.full(cap, -7, dtype=np.int32)
     key_start = np.full(nkeys + 1, -3, dtype=np.int64)
-    nalive = counting_sort(n, key, nkeys, key_start, src, dst, key_out)
+    nalive = sort(n, key, nkeys, key_start, src, dst, key_out, 2)
     # slow twin: numpy stable argsort of the surviving particles
     alive = np.flatnonzero(key[:n] >= 0)
     order = alive[np.argsort(key[alive], kind="stable")]
@@ -362,7 +383,7 @@ def _pieces(ymin_row=None):
 
 def _move(x, y, vx, vy, vz, dt, segs, pieces, piece_int, sampling=False, nudge=0.0):
     n = len(x)
-    key = np.zeros(n, dtype=np.int64)
+    key = np.zeros(n, dtype=np.int32)
     seg_tally = np.array([[0, 1]] * len(segs), dtype=np.int64).reshape(-1, 2)
     stally = np.zeros((2, N_SURF_TALLY))
     ftally = np.zeros((0, N_FLUX_TALLY))
@@ -370,7 +391,7 @@ def _move(x, y, vx, vy, vz, dt, segs, pieces, piece_int, sampling=False, nudge=0
     free = np.zeros(NXM * NYM, dtype=np.uint8)   # no fast path: every flight is searched
     removed = move_all(n, n, np.zeros(1), dt, x, y, vx, vy, vz, key, segs, seg_tally, BOX,
                        pieces, piece_int, planes, stally, ftally, sampling, nudge, NXM, NYM,
-                       1.0 / NXM, 1.0 / NYM, 1, free)
+                       1.0 / NXM, 1.0 / NYM, 1, free, KEY)
     return removed, key, stally
 
 
@@ -450,7 +471,6 @@ def test_diffuse_wall_reemission(where):
     x, y = start[:, 0].copy(), start[:, 1].copy()
     vx, vy = vin[:, 0].copy(), vin[:, 1].copy()
     vz = rng.standard_normal(n)
-    seed_generator(42)
     removed, _, tally = _move(x, y, vx, vy, vz, 2e-5, segs, pieces, piece_int, True)
     assert removed == 0
     assert tally[0 if where == "segment" else 1, T_HITS] == n     # every particle hit once
@@ -545,11 +565,11 @@ def test_fast_path_never_skips_a_wall():
     vx, vy, vz = np.array([995.0]), np.array([995.0]), np.zeros(1)
     ex, ey = seg[2] - seg[0], seg[3] - seg[1]
     side0 = np.sign(ex * (y[0] - seg[1]) - ey * (x[0] - seg[0]))
-    key = np.zeros(1, dtype=np.int64)
+    key = np.zeros(1, dtype=np.int32)
     move_all(1, 1, np.zeros(1), plan.time_step_s, x, y, vx, vy, vz, key, g.segs, g.seg_tally,
              g.box, g.pieces, g.piece_int, g.planes, np.zeros((len(g.facet_owner), 7)),
              np.zeros((0, N_FLUX_TALLY)), False, 1e-12 * 20e-3, g.nx, g.ny, g.dx, g.dy,
-             plan.subcells, g.free)
+             plan.subcells, g.free, KEY)
     side1 = np.sign(ex * (y[0] - seg[1]) - ey * (x[0] - seg[0]))
     assert side1 == side0, "the molecule flew through the plate"
     # the invariant the fast path relies on: no free cell next to a cell the wall enters

@@ -23,7 +23,7 @@ from rarefy.kernels.config import (
     BND_ABSORB, BND_PERIODIC, BND_REFLECT, N_FLUX_TALLY, N_SURF_TALLY, SIDE_XMAX, SIDE_XMIN,
     SIDE_YMAX, SIDE_YMIN, T_HITS,
 )
-from rarefy.kernels.inject import seed_generator
+from rarefy.kernels.rng import step_key
 from rarefy.kernels.move_axi import move_all_axi, rotate_to, surface_hit
 
 
@@ -191,6 +191,7 @@ def test_rotate_to_keeps_speed_and_angular_momentum():
 
 # ============================================================== specular cans
 NUDGE = 1e-12
+KEY = step_key(2024, 0, 2)   # a fixed key for the per-particle streams
 
 
 def _move(x, r, vx, vr, vt, dt, segs, pieces, piece_int, box, nx, ny, free, weights=None,
@@ -198,7 +199,7 @@ def _move(x, r, vx, vr, vt, dt, segs, pieces, piece_int, box, nx, ny, free, weig
     """One step of move_all_axi with unit row weights (unless ``weights``); wall hits are
     tallied into ``stally`` when given (facets as in ``seg_tally`` and ``piece_int``)."""
     n = len(x)
-    key = np.zeros(n, dtype=np.int64)
+    key = np.zeros(n, dtype=np.int32)
     if seg_tally is None:
         seg_tally = np.zeros((len(segs), 2), dtype=np.int64)
     sampling = stally is not None
@@ -209,7 +210,7 @@ def _move(x, r, vx, vr, vt, dt, segs, pieces, piece_int, box, nx, ny, free, weig
                            pieces, piece_int, np.zeros((0, 4)), stally,
                            np.zeros((0, N_FLUX_TALLY)), sampling, NUDGE, nx, ny,
                            (box[1] - box[0]) / nx, (box[3] - box[2]) / ny, 1, free,
-                           row_weight, n, np.zeros((2, ny)))
+                           row_weight, n, np.zeros((2, ny)), KEY)
     return m, lost, key
 
 
@@ -333,19 +334,18 @@ def test_radial_weights_unbiased_in_one_step():
     seeds = range(8)
     got_row = np.zeros(ny)
     for seed in seeds:
-        seed_generator(100 + seed)
         arrays = []
         for a in start:
             b = np.zeros(cap)
             b[:n] = a
             arrays.append(b)
-        key = np.zeros(cap, dtype=np.int64)
+        key = np.zeros(cap, dtype=np.int32)
         m, lost = move_all_axi(n, n, np.zeros(1), 0.3, *arrays, key, np.zeros((0, 7)),
                                np.zeros((0, 2), dtype=np.int64), box, pieces, piece_int,
                                np.zeros((0, 4)), np.zeros((0, N_SURF_TALLY)),
                                np.zeros((0, N_FLUX_TALLY)), False, NUDGE, nx, ny, 1.0 / nx,
                                1.0 / ny, 1, free, weights, cap,
-                               np.random.default_rng(seed).random((2, ny)))
+                               np.random.default_rng(seed).random((2, ny)), KEY)
         assert lost == 0
         # the flights themselves are those of the twin, duplicates are exact copies
         np.testing.assert_array_equal(arrays[1][:n], twin[1])

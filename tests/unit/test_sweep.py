@@ -133,11 +133,17 @@ def test_upstream_pressure_sweep_runs(slit, tmp_path):
     assert (tmp_path / "up" / "point-00" / "result.h5").is_file()
 
 
-@pytest.mark.skipif(multiprocessing.get_start_method() != "fork",
+@pytest.mark.skipif("fork" not in multiprocessing.get_all_start_methods(),
                     reason="the patched function reaches the workers only by fork")
 def test_failed_point_does_not_stop_the_others(slit, tmp_path, monkeypatch):
     import rarefy.cli
+    import rarefy.sweep
     real = rarefy.cli.execute
+    # fork (not the sweep's spawn) carries the patch into the workers; they run on one
+    # thread each (two jobs on two cores), so their kernels stay serial and never start
+    # a thread pool in the forked copy of this process
+    monkeypatch.setattr(rarefy.sweep, "START_METHOD", "fork")
+    monkeypatch.setattr(rarefy.sweep, "share_of_cores", lambda jobs: 1)
 
     def flaky(case, rundir, seed, quiet=False):
         if seed == 1:
