@@ -86,7 +86,26 @@ def _rundir(path: str) -> Path:
     return p
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+class _Commands(click.Group):
+    """The command group; commands kept in other modules are imported only when used,
+    so that `rarefy run` does not pay for the imports of the analysis commands (scipy's
+    optimisers, for one) before its first step."""
+
+    LAZY = {"estimate": "rarefy.cli_estimate", "export": "rarefy.cli_export",
+            "speeds": "rarefy.cli_speeds", "sweep": "rarefy.cli_sweep",
+            "tof": "rarefy.cli_tof"}
+
+    def list_commands(self, ctx):
+        return sorted(set(super().list_commands(ctx)) | set(self.LAZY))
+
+    def get_command(self, ctx, name):
+        if name in self.LAZY and name not in self.commands:
+            import importlib
+            self.add_command(getattr(importlib.import_module(self.LAZY[name]), name))
+        return super().get_command(ctx, name)
+
+
+@click.group(cls=_Commands, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="rarefy")
 def cli():
     """rarefy: rarefied gas flow through slits, channels and apertures by DSMC.
@@ -443,7 +462,6 @@ def run(case_file, output, seed, sets, target_error, max_steps, plane, resume,
     SIGTERM stops after the current step, writes a checkpoint and the batches done so
     far; `--resume` continues from the checkpoint."""
     from rarefy.mpi import local_size
-    from rarefy.report import format_report, load_report
     from rarefy.threads import share_of_cores, use_threads
 
     use_threads(threads if threads else
@@ -465,6 +483,7 @@ def run(case_file, output, seed, sets, target_error, max_steps, plane, resume,
     else:
         path = execute(case, rundir, seed, quiet, target_error, max_steps, plane, resume,
                        checkpoint_every, _time_budget(time_budget), checkpoint_steps)
+    from rarefy.report import format_report, load_report
     rep = load_report(rundir)
     _write_json(rundir / "summary.json", rep)
     click.echo(format_report(rep))
@@ -599,22 +618,6 @@ def demo(output, seed, quiet):
     click.echo(format_report(rep))
     for p in _plot_all(read_result(rundir), rundir / "plots"):
         click.echo(f"wrote {p}")
-
-
-def _register() -> None:
-    from rarefy.cli_estimate import estimate
-    from rarefy.cli_export import export
-    from rarefy.cli_speeds import speeds
-    from rarefy.cli_sweep import sweep
-    from rarefy.cli_tof import tof
-    cli.add_command(estimate)
-    cli.add_command(export)
-    cli.add_command(speeds)
-    cli.add_command(sweep)
-    cli.add_command(tof)
-
-
-_register()
 
 
 def main():

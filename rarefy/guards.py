@@ -50,16 +50,17 @@ __all__ = [
 
 # Particle state in rarefy.engine.particles.ParticleStore: 5 float64 (x, y, vx, vy, vz)
 # in two buffers (the sorted copy is written into the second, then they swap), plus an
-# int64 sort key in two buffers: (5 * 8) * 2 + 8 * 2 = 96 bytes per particle.
-BYTES_PER_PARTICLE = 5 * 8 * 2 + 8 * 2
-# The engine reserves room for 1.5 x the plan's particle estimate when it starts
-# (rarefy.engine.simulation.Simulation), so that is what is allocated at once.
-STORE_HEADROOM = 1.5
+# int32 sort key: (5 * 8) * 2 + 4 = 84 bytes per particle.
+BYTES_PER_PARTICLE = 5 * 8 * 2 + 4
+# The store grows by at least 1.25 x when it must (rarefy.engine.particles), so it may
+# hold up to 1.25 x the particles it carries.
+STORE_HEADROOM = 1.25
 # Per-cell arrays of the engine: two sampling rows of 13 float64 moments, the
 # maximum sigma*c_r, the collision remainder and the cell flags, about 30 float64.
 BYTES_PER_CELL = 30 * 8
-# Sort keys: one int64 start index per collision sub-cell.
-BYTES_PER_SUBCELL = 8
+# Sort keys: one int64 start index per collision sub-cell, and during the sort one
+# int64 count per sub-cell and thread (two threads assumed).
+BYTES_PER_SUBCELL = 8 + 2 * 8
 # Tallies kept per sampling batch: per flux plane 6 sums and two histograms of
 # bins + 1, per probe 12 moments and four histograms of bins + 1, per surface facet
 # 7 sums; float64 each.

@@ -107,7 +107,10 @@ class Simulation:
         rate = float(self.inflow[:, -1].sum()) if len(self.inflow) else 0.0
         self.inflow_max = int(rate + 10.0 * math.sqrt(rate) + 16)
         self.tfrac = np.zeros(self.inflow_max)
-        self.store = ParticleStore(int(1.5 * plan.expected_particles) + self.inflow_max)
+        # sized by the initial fill (ParticleStore.add) and grown as the flow fills the
+        # domain; the plan's estimate (the whole domain at the reference density) is far
+        # above what open cases hold
+        self.store = ParticleStore(self.inflow_max + 1024)
         self.clock = Clock()
         steps_per_batch = max(1, plan.sample_steps // plan.batches)
         self.probes = build_probes(case, g)
@@ -213,10 +216,10 @@ class Simulation:
         st = self.store
         if par:
             st.n = counting_sort_par(st.n, st.key, self.nkeys, self.key_start, st.state,
-                                     st.spare, st.key_spare, numba.get_num_threads())
+                                     st.spare, numba.get_num_threads())
         else:
             st.n = counting_sort(st.n, st.key, self.nkeys, self.key_start, st.state, st.spare,
-                                 st.key_spare, 1)
+                                 1)
         st.swap()
 
     # ------------------------------------------------------------------ the loop
@@ -240,7 +243,7 @@ class Simulation:
         mkey = step_key(self.rng_key, self.clock.step, SALT_MOVE)
         par = run_parallel(n1)
         if self.axi:
-            st.reserve(n1 + max(4096, n1 // 4))
+            st.reserve(n1 + max(4096, n1 // 8))   # duplicates of the radial weighting
             s = st.state
             st.n, lost = (move_all_axi_par if par else move_all_axi)(
                 n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key, g.segs,

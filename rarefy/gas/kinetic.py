@@ -12,10 +12,11 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy.special import erf as _erf
 
 from rarefy.constants import K_B
 from rarefy.gas.species import MolecularModel
+
+_erf = np.vectorize(math.erf, otypes=[float])   # scipy.special.erf without importing scipy
 
 __all__ = [
     "HS_VISCOSITY_FACTOR", "HS_CONDUCTIVITY_FACTOR", "hard_sphere_transport_correction",

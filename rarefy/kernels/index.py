@@ -5,7 +5,8 @@ keys; a prefix sum over (key, chunk) gives every chunk its first slot in each ke
 range; then each thread scatters its chunk's particles (every particle array) into the
 sorted order. Removed particles (key -1) are dropped, which compacts the store.
 Chunks are taken in store order, so the result is the stable sort whatever the number
-of threads. Collisions then walk contiguous ranges.
+of threads. Collisions then walk contiguous ranges. The keys themselves are not kept:
+the next move writes every particle's key afresh.
 """
 
 import numpy as np
@@ -14,7 +15,7 @@ from numba import prange
 from rarefy.kernels.config import serial_and_parallel
 
 
-def counting_sort_py(n, key, nkeys, key_start, src, dst, key_out, nthreads):
+def counting_sort_py(n, key, nkeys, key_start, src, dst, nthreads):
     """Sort ``n`` particles by key into ``dst`` (float arrays stacked as rows of ``src``).
 
     Parameters
@@ -22,7 +23,6 @@ def counting_sort_py(n, key, nkeys, key_start, src, dst, key_out, nthreads):
     key : int32[n]; -1 marks a removed particle.
     key_start : int64[nkeys + 1], filled with the first slot of every key.
     src, dst : float64[nvar, capacity]; particle variables, one row each.
-    key_out : int32[capacity], receives the sorted keys.
     nthreads : chunks to count and scatter in parallel (``numba.get_num_threads()``;
         fewer when a chunk would hold under 65536 particles).
 
@@ -59,7 +59,6 @@ def counting_sort_py(n, key, nkeys, key_start, src, dst, key_out, nthreads):
             fill[k] = j + 1
             for v in range(nvar):
                 dst[v, j] = src[v, i]
-            key_out[j] = k
     return total
 
 

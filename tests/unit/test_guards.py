@@ -82,19 +82,19 @@ def test_guard_error_is_a_value_error():
 
 # ----------------------------------------------------------------------------------- memory
 
-def test_particle_state_is_96_bytes():
-    assert BYTES_PER_PARTICLE == 5 * 8 * 2 + 2 * 8 == 96
+def test_particle_state_is_84_bytes():
+    assert BYTES_PER_PARTICLE == 5 * 8 * 2 + 4 == 84
     case, plan = planned(slit_case())
     parts = estimate_memory_bytes(case, plan)
-    assert parts["particles"] == pytest.approx(plan.expected_particles * STORE_HEADROOM * 96)
+    assert parts["particles"] == pytest.approx(plan.expected_particles * STORE_HEADROOM * 84)
     assert parts["grid"] > 0 and parts["batches"] > 0
 
 
 def test_memory_guard_names_the_particle_keys():
-    text = slit_case(upstream_pressure_pa=1000.0)      # about 4.5e6 particles, ~0.7 GiB
+    text = slit_case(upstream_pressure_pa=1000.0)      # about 4.5e6 particles, ~0.5 GiB
     exc = refused(text, memory_budget_bytes=0.25 * GIB)
     assert exc.key == "resolution.particles_per_cell"
-    for fragment in ("4.45e+06 particles", "MiB of memory", "96 bytes each",
+    for fragment in ("4.45e+06 particles", "MiB of memory", "84 bytes each",
                      "budget of 256 MiB", "resolution.particles_per_cell",
                      "resolution.cell_size", "resolution.particle_weight"):
         assert fragment in exc.message, exc.message
