@@ -43,10 +43,8 @@ Per case and size
 ``phases``  ns per particle-step in each phase (inject, move, index, collide, sample),
     from the best block. Sampling runs on every timed step (it always does once a run
     samples), with batches of 50 steps (fewer when the measurement is shorter than
-    100 steps, so that a batch closes). Engine versions before the fix of its phase
-    accounting counted the first half-sample in "index" too; the benchmark times that
-    half-sample and takes it out of "index" only when the phases add up to more than the
-    step (``index_double_count_removed`` says whether it did).
+    100 steps, so that a batch closes). The cell moments are sampled inside the
+    collision kernel, so "collide" includes them and "sample" is the probes alone.
 ``collisions_per_particle_step``, ``candidates_per_particle_step``  NTC collisions and
     candidate pairs per particle-step (what the collide phase pays for).
 ``bytes_owned_per_particle``  bytes of every numpy buffer the Simulation holds (particle
@@ -71,32 +69,32 @@ from the kernels as they are (``rarefy/kernels``; x, y/r, vx, vy/vr, vz/vt are f
 rows of the store, keys int64):
 
 * move, planar (``move_all``): reads x, y, vx, vy (32 B), writes x, y (16 B) and the
-  key (8 B) = 56 B; vz is read only at events. Axisymmetric (``move_all_axi``): reads
-  all five (40 B), writes x, r, vr, vt (32 B) and the key (8 B) = 80 B.
-* index (``counting_sort``): the counting pass reads the keys (8 B); the scatter pass
-  reads them again (8 B), reads the five rows (40 B), writes them to the spare buffer
-  (40 B) and writes the sorted key (8 B) = 104 B. The writes go to 5 x (number of
-  keys) streams at once, so at large sizes each lands in a different cache line: the
-  real traffic is higher (write-allocate, partly used lines), which is why this phase
-  is far from the bound.
-* collide (``collide_cells``), collisional cases: the velocities of the cell's particles
-  are read and the collided ones written back, 3 x 8 B each way = 48 B; the
-  collisionless cases draw (almost) no candidates: 0 B.
-* sample (``sample_cells``, twice per step with weight 1/2, before and after the
-  collisions): reads vx, vy, vz twice = 48 B. Probes touch few particles: 0 B.
+  int32 key (4 B) = 52 B; vz is read only at events. Axisymmetric (``move_all_axi``):
+  reads all five (40 B), writes x, r, vr, vt (32 B) and the key (4 B) = 76 B.
+* index (``counting_sort``): the counting pass reads the keys (4 B); the scatter pass
+  reads them again (4 B), reads the five rows (40 B) and writes them to the spare
+  buffer (40 B) = 88 B. The writes go to 5 x (number of keys) streams at once, so at
+  large sizes each lands in a different cache line: the real traffic is higher
+  (write-allocate, partly used lines), which is why this phase is far from the bound.
+* collide (``collide_cells``, which also samples the cell moments, half before and half
+  after the collisions, while the cell is in cache): reads vx, vy, vz once (24 B) and,
+  in collisional cases, writes them back (24 B) = 48 B; collisionless cases 24 B.
+* sample (``sample_probes``): probes touch few particles: 0 B.
 * inject: the new particles only, a small fraction of a step: 0 B.
 
-Planar collisional: 56 + 104 + 48 + 48 = 256 B; planar collisionless 208 B;
-axisymmetric collisionless 232 B; axisymmetric collisional 280 B. The roofline is
+Planar collisional: 52 + 88 + 48 = 188 B; planar collisionless 164 B; axisymmetric
+collisionless 188 B; axisymmetric collisional 212 B. The roofline is
 ``B / bytes``; ``roofline_ratio`` = achieved / roofline. It bounds the data movement
 only: the arithmetic (random numbers, sqrt, pow, sin and cos in collisions; the
 quadratic surface equations of axisymmetric moves) is not in it.
 
 Threads
 -------
-``--threads N`` calls ``numba.set_num_threads`` (default: all cores). The output says
-whether any kernel is compiled with ``parallel=True`` and gives the process CPU time
-over the wall time of the timed steps (about 1.0 = one busy core).
+``--threads N`` calls ``numba.set_num_threads`` (default: all cores). Move, sort and
+collide have parallel builds, which the engine uses on more than one thread from
+``rarefy.threads.parallel_min_particles()`` particles on; their serial twins run on one
+thread. The output lists the parallel kernels, the threading layer numba chose and the
+process CPU time over the wall time of the timed steps (about 1.0 = one busy core).
 
 Start-up (``startup``; ``--no-startup`` skips it)
 -------------------------------------------------
@@ -170,10 +168,10 @@ RADIUS_M = 0.5e-3
 TUBE_LENGTH_M = 5 * RADIUS_M
 
 # bytes a step must move per particle, per phase (derivation in the module docstring)
-_MOVE = {False: 56, True: 80}      # planar, axisymmetric
-_INDEX = 104
-_COLLIDE = 48
-_SAMPLE = 48
+_MOVE = {False: 52, True: 76}      # planar, axisymmetric
+_INDEX = 88
+_COLLIDE = {False: 24, True: 48}   # collisionless, collisional (cell sampling included)
+_SAMPLE = 0
 
 BOX = """
 title = "benchmark: periodic box of argon (invented)"
@@ -366,7 +364,7 @@ def owned_bytes(obj, seen: set | None = None, depth: int = 0) -> int:
 def traffic(axisymmetric: bool, collisional: bool) -> dict:
     """Bytes per particle-step each phase must move (module docstring)."""
     return {"inject": 0, "move": _MOVE[axisymmetric], "index": _INDEX,
-            "collide": _COLLIDE if collisional else 0, "sample": _SAMPLE}
+            "collide": _COLLIDE[collisional], "sample": _SAMPLE}
 
 
 def parallel_kernels() -> list[str]:
