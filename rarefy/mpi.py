@@ -16,7 +16,8 @@ import os
 
 import numpy as np
 
-__all__ = ["MPIUnavailable", "launched_size", "local_size", "world", "replica_seed", "combine_replicas"]
+__all__ = ["MPIUnavailable", "launched_size", "local_size", "world", "replica_seed",
+           "combine_replicas"]
 
 INSTALL_HINT = ("install the optional MPI support with `pip install 'rarefy[mpi]'` (mpi4py "
                 "and MPICH wheels; no system MPI needed) and start with `mpiexec -n K rarefy "

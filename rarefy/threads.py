@@ -11,8 +11,10 @@ from __future__ import annotations
 import os
 
 import numba
+import numpy as np
 
-__all__ = ["use_threads", "share_of_cores", "run_parallel", "parallel_min_particles"]
+__all__ = ["use_threads", "share_of_cores", "run_parallel", "parallel_min_particles",
+           "threading_layer"]
 
 
 def use_threads(n: int | None) -> int:
@@ -38,16 +40,30 @@ PARALLEL_MIN_FAST_POOL = 20_000
 PARALLEL_MIN_SLOW_POOL = 200_000
 
 
-def parallel_min_particles() -> int:
-    """Particle count from which the parallel kernels pay (see above); the slow-pool
-    figure until numba has started its pool and can say which layer it uses."""
+@numba.njit(parallel=True, cache=True)
+def _touch_pool(a):
+    for i in numba.prange(a.shape[0]):
+        a[i] = i
+
+
+def threading_layer() -> str:
+    """The layer of numba's thread pool ("omp", "tbb" or "workqueue"), starting the pool
+    with a trivial parallel loop if no parallel kernel has run yet."""
     try:
-        layer = numba.threading_layer()
+        return numba.threading_layer()
     except ValueError:
-        return PARALLEL_MIN_SLOW_POOL
+        _touch_pool(np.zeros(2))
+        return numba.threading_layer()
+
+
+def parallel_min_particles() -> int:
+    """Particle count from which the parallel kernels pay (see above)."""
+    layer = threading_layer()
     return PARALLEL_MIN_FAST_POOL if layer in ("omp", "tbb") else PARALLEL_MIN_SLOW_POOL
 
 
 def run_parallel(particles: int) -> bool:
-    """Whether a step over ``particles`` particles should use the parallel kernels."""
-    return numba.get_num_threads() > 1 and particles >= parallel_min_particles()
+    """Whether a step over ``particles`` particles should use the parallel kernels (on one
+    thread, or below :data:`PARALLEL_MIN_FAST_POOL`, the pool is never started)."""
+    return (numba.get_num_threads() > 1 and particles >= PARALLEL_MIN_FAST_POOL
+            and particles >= parallel_min_particles())
