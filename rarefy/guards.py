@@ -40,6 +40,7 @@ __all__ = [
     "MAX_TRANSIT_FRACTION",
     "MAX_COLLISIONAL_DT_OVER_TAU",
     "STORE_HEADROOM",
+    "SORT_BYTES_PER_PARTICLE",
     "GuardError",
     "check_plan",
     "default_memory_budget",
@@ -58,9 +59,11 @@ STORE_HEADROOM = 1.25
 # Per-cell arrays of the engine: two sampling rows of 13 float64 moments, the
 # maximum sigma*c_r, the collision remainder and the cell flags, about 30 float64.
 BYTES_PER_CELL = 30 * 8
-# Sort keys: one int64 start index per collision sub-cell, and during the sort one
-# int64 count per sub-cell and thread (two threads assumed).
-BYTES_PER_SUBCELL = 8 + 2 * 8
+# Sort keys: one int64 start index per collision sub-cell.
+BYTES_PER_SUBCELL = 8
+# During the sort: per-chunk counts, at most two int64 per particle
+# (rarefy.kernels.index).
+SORT_BYTES_PER_PARTICLE = 16
 # Tallies kept per sampling batch: per flux plane 6 sums and two histograms of
 # bins + 1, per probe 12 moments and four histograms of bins + 1, per surface facet
 # 7 sums; float64 each.
@@ -152,7 +155,8 @@ def estimate_memory_bytes(case: Case, plan: Plan) -> dict[str, float]:
                        + len(case.probes) * (PROBE_TALLY + 4 * bins)
                        + _facets(case, plan) * FACET_TALLY + 4)
     return {
-        "particles": float(plan.expected_particles) * STORE_HEADROOM * BYTES_PER_PARTICLE,
+        "particles": float(plan.expected_particles) * (STORE_HEADROOM * BYTES_PER_PARTICLE
+                                                       + SORT_BYTES_PER_PARTICLE),
         "grid": float(plan.ncell) * (BYTES_PER_CELL + BYTES_PER_SUBCELL * plan.subcells ** 2),
         "batches": per_batch * plan.batches,
     }
@@ -263,7 +267,8 @@ def check_plan(case: Case, plan: Plan, *, memory_budget_bytes: float | None = No
             raise GuardError(path, key,
                              f"about {plan.expected_particles:.3g} particles would need about "
                              f"{_gib(total)} of memory ({BYTES_PER_PARTICLE} bytes each, "
-                             f"x{STORE_HEADROOM:g} reserved), more than the budget of "
+                             f"x{STORE_HEADROOM:g} reserved, {SORT_BYTES_PER_PARTICLE} more while "
+                             f"sorting), more than the budget of "
                              f"{_gib(budget)}; use fewer particles: {_PARTICLE_KEYS}")
         if parts["grid"] >= parts["batches"]:
             raise GuardError(path, "resolution.cell_size",

@@ -149,7 +149,9 @@ def _prepare(case_path, key, values, fixed, plane, seed):
 
 
 # Workers start as fresh processes: a forked copy of a process whose parallel kernels
-# already ran on an OpenMP pool would abort when its own kernels start one.
+# already ran on an OpenMP pool would abort when its own kernels start one. (So a script
+# that calls run_sweep must do so under ``if __name__ == "__main__":``, as with any
+# spawned pool.)
 START_METHOD = "spawn"
 
 

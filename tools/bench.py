@@ -272,7 +272,9 @@ def scaled_up(small: Simulation, case, particles: int, seed: int = 11) -> Simula
     full, extra = divmod(int(particles), n)
     src = np.concatenate([np.tile(np.arange(n), full), rng.choice(n, extra, replace=False)])
     rng.shuffle(src)                                # memory order within a cell: random
-    cell = st0.key[src] // ns2
+    # cell of every sorted slot, from the cell ranges of the last sort (the store's keys
+    # are those of the next move, not of the sorted order)
+    cell = np.repeat(np.arange(g.ncell), np.diff(starts))[src]
     del src
     ix = cell % g.nx
     iy = cell // g.nx

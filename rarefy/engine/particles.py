@@ -38,10 +38,11 @@ class ParticleStore:
         if needed <= self.capacity:
             return
         cap = max(needed + needed // 16, self.capacity + self.capacity // 4)
+        self.spare = None                      # freed first: the sort overwrites it whole
         new = np.zeros((NVAR, cap))
         new[:, : self.n] = self.state[:, : self.n]
         self.state = new
-        self.spare = np.zeros((NVAR, cap))     # the sort overwrites it whole
+        self.spare = np.zeros((NVAR, cap))
         key = np.full(cap, -1, dtype=np.int32)
         key[: self.n] = self.key[: self.n]
         self.key = key

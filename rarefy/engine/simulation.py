@@ -231,7 +231,10 @@ class Simulation:
             seed_generator(segment_seed(self.seed, self.clock.step))
         t0 = time.perf_counter()
         n0 = st.n
-        st.reserve(n0 + self.inflow_max)
+        # room for the inflow and, axisymmetric, for the duplicates of the radial
+        # weighting (a few per cent of the particles a step; 1/4 leaves a wide margin)
+        room = n0 + self.inflow_max
+        st.reserve(room + (max(4096, room // 4) if self.axi else 0))
         s = st.state
         n1 = inject(self.inflow, n0, s[X], s[Y], s[VX], s[VY], s[VZ], self.tfrac) \
             if len(self.inflow) else n0
@@ -243,8 +246,6 @@ class Simulation:
         mkey = step_key(self.rng_key, self.clock.step, SALT_MOVE)
         par = run_parallel(n1)
         if self.axi:
-            st.reserve(n1 + max(4096, n1 // 8))   # duplicates of the radial weighting
-            s = st.state
             st.n, lost = (move_all_axi_par if par else move_all_axi)(
                 n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key, g.segs,
                 g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows, stally, ftally,

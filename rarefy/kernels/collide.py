@@ -74,9 +74,9 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
     """
     ns2 = nsub * nsub
     hard = exponent == 1.0
-    n_coll = 0.0
-    sep = 0.0
+    n_coll = 0.0                  # whole numbers: their parallel sum is exact
     n_cand = 0.0
+    sep_cell = np.zeros(ncell)    # summed in cell order below, whatever the threads
     for c in prange(ncell):
         lo = key_start[c * ns2]
         hi = key_start[(c + 1) * ns2]
@@ -147,8 +147,11 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
         if sampling:
             add_cell_moments(lo, hi, vx, vy, vz, moments, c, 0.5)
         n_coll += c_coll
-        sep += c_sep
+        sep_cell[c] = c_sep
         n_cand += ncand
+    sep = 0.0
+    for c in range(ncell):
+        sep += sep_cell[c]
     stats[0] += n_coll
     stats[1] += sep
     stats[2] += n_cand

@@ -24,11 +24,13 @@ def counting_sort_py(n, key, nkeys, key_start, src, dst, nthreads):
     key_start : int64[nkeys + 1], filled with the first slot of every key.
     src, dst : float64[nvar, capacity]; particle variables, one row each.
     nthreads : chunks to count and scatter in parallel (``numba.get_num_threads()``;
-        fewer when a chunk would hold under 65536 particles).
+        fewer when a chunk would hold under 65536 particles, or when the chunks' counts
+        would pass 2 per particle).
 
     Returns the number of surviving particles.
     """
-    nt = max(1, min(nthreads, n // 65536))
+    # the per-chunk counts (chunks x keys int64) stay within 16 bytes per particle
+    nt = max(1, min(nthreads, n // 65536, (2 * n) // max(nkeys, 1)))
     bounds = np.empty(nt + 1, np.int64)
     for t in range(nt + 1):
         bounds[t] = (n * t) // nt

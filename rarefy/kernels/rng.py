@@ -14,6 +14,10 @@ A draw costs a few integer multiplies (about 1 ns), against about 8 ns for numba
 
 Every function returns the advanced counter with its value: numba cannot update a
 scalar argument in place, and tuples of scalars stay in registers.
+
+These helpers are inlined into the kernels, and numba judges a cached kernel stale only
+by its own source file: after editing this file, clear the ``__pycache__`` folders of
+``rarefy/kernels`` (or set ``NUMBA_CACHE_DIR`` to a new folder) before measuring.
 """
 
 import numpy as np
@@ -42,8 +46,10 @@ def mix64(z):
 
 @njit(inline="always", **JIT)
 def stream(key, unit):
-    """Counter of the stream of work unit ``unit`` (an integer >= 0) under ``key``."""
-    return mix64(key ^ (np.uint64(unit) * _UNIT_KEY))
+    """Counter of the stream of work unit ``unit`` (an integer >= 0) under ``key`` (a
+    uint64 from :func:`step_key`; cast, so that an int64 key cannot give another
+    stream)."""
+    return mix64(np.uint64(key) ^ (np.uint64(unit) * _UNIT_KEY))
 
 
 @njit(inline="always", **JIT)
