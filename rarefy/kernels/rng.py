@@ -60,21 +60,6 @@ def uniform(s):
 
 
 @njit(inline="always", **JIT)
-def normal(s):
-    """(next counter, a standard normal deviate) by Marsaglia's polar method
-    (Marsaglia & Bray 1964), which needs no sine or cosine; the second deviate of
-    the pair is dropped so that a draw's cost does not depend on history."""
-    while True:
-        s, a = uniform(s)
-        s, b = uniform(s)
-        u = 2.0 * a - 1.0
-        v = 2.0 * b - 1.0
-        q = u * u + v * v
-        if 0.0 < q < 1.0:
-            return s, u * np.sqrt(-2.0 * np.log(q) / q)
-
-
-@njit(inline="always", **JIT)
 def unit_disk(s):
     """(next counter, (cos e, sin e, q)) for an azimuth e uniform on [0, 2 pi), from a
     point (u, v) uniform in the unit disk by rejection (acceptance pi/4): cos e = u /
@@ -89,6 +74,16 @@ def unit_disk(s):
         if 0.0 < q < 1.0:
             r = 1.0 / np.sqrt(q)
             return s, u * r, v * r, q
+
+
+@njit(inline="always", **JIT)
+def normal(s):
+    """(next counter, a standard normal deviate) by Marsaglia's polar method
+    (Marsaglia & Bray 1964): from a point uniform in the unit disk at squared radius q
+    and azimuth e, cos(e) sqrt(-2 ln q) is standard normal; the partner deviate
+    sin(e) sqrt(-2 ln q) is dropped so that a draw's cost does not depend on history."""
+    s, ce, se, q = unit_disk(s)
+    return s, ce * np.sqrt(-2.0 * np.log(q))
 
 
 _MASK = (1 << 64) - 1
