@@ -6,7 +6,8 @@ and the two swap, so sorting also compacts out removed particles. ``key`` (int32
 holds each particle's sort key, written by the move. 5 x 8 x 2 + 4 = 84 bytes a slot.
 
 The store grows when it must, to the larger of what is needed plus 1/16 and 1.25 x its
-size, so a store that grew holds at most 1.25 x (and usually about 1.1 x) the particles.
+size, so a store that grew holds at most 1.25 x the room last asked for (the engine asks
+for the particles plus the inflow, and axisymmetric runs for 1/4 more for duplicates).
 """
 
 from __future__ import annotations

@@ -214,12 +214,9 @@ class Simulation:
 
     def _sort(self, par: bool = False) -> None:
         st = self.store
-        if par:
-            st.n = counting_sort_par(st.n, st.key, self.nkeys, self.key_start, st.state,
-                                     st.spare, numba.get_num_threads())
-        else:
-            st.n = counting_sort(st.n, st.key, self.nkeys, self.key_start, st.state, st.spare,
-                                 1)
+        sort = counting_sort_par if par else counting_sort
+        st.n = sort(st.n, st.key, self.nkeys, self.key_start, st.state, st.spare,
+                    numba.get_num_threads() if par else 1)
         st.swap()
 
     # ------------------------------------------------------------------ the loop
