@@ -78,10 +78,21 @@ def one_line(text: str) -> str:
 
 @dataclass(frozen=True)
 class GasSpec:
-    """Gas and collision model: ``species`` is the canonical table key, ``model`` hs/vhs/vss."""
+    """Gas and collision model: ``species`` is the canonical table key, ``model`` hs/vhs/vss.
+
+    Internal energy (polyatomic species only): ``rotation`` is the rotational collision
+    number Z_rot (a number >= 1) or ``"parker"`` (Parker's formula, N2 and O2);
+    ``vibration`` switches the vibrational mode on, with collision number
+    ``vibration_number`` (a number or ``"millikan-white"``). Monatomic gases have
+    ``rotation`` None.
+    """
 
     species: str
     model: str
+    rotation: float | str | None = None
+    vibration: bool = False
+    vibration_number: float | str | None = None
+    rotation_set: bool = False      # rotation given in the case (else the default)
 
 
 @dataclass(frozen=True)

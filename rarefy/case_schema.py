@@ -18,6 +18,7 @@ from rarefy.case import (
     SIDES, Boundary, CaseError, Domain, FluxPlane, GasSpec, Histograms, InitialState, Probe,
     Resolution, RunControl, Surface, Wall,
 )
+from rarefy.gas.internal import DEFAULT_ZROT
 from rarefy.units import UNITS, UnitError, parse_quantity, show
 
 if sys.version_info >= (3, 11):
@@ -30,7 +31,7 @@ __all__ = ["build_case", "apply_override", "Checker"]
 TOP_KEYS = ("title", "gas", "domain", "boundaries", "walls", "flux_planes", "probes",
             "histograms", "initial", "resolution", "run")
 SECTION_KEYS = {
-    "gas": ("species", "model"),
+    "gas": ("species", "model", "rotation", "vibration", "vibration_number"),
     "domain": ("geometry", "x", "y", "depth", "characteristic_length"),
     "initial": ("pressure", "temperature", "velocity"),
     "resolution": ("cell_size", "time_step", "particles_per_cell", "particle_weight", "subcells"),
@@ -208,7 +209,39 @@ def _species(chk: Checker, gas: dict) -> GasSpec:
     if model == "vss" and entry.alpha is None:
         chk.fail("gas.model", f'"vss" needs VSS data, which {species} lacks; allowed for '
                               f"{species}: hs, vhs")
-    return GasSpec(species, model)
+    if not entry.rot_dof:
+        for key in ("rotation", "vibration", "vibration_number"):
+            if key in gas:
+                chk.fail(f"gas.{key}", f"{species} is monatomic: it has no internal energy; "
+                                       "remove the key")
+        return GasSpec(species, model)
+    rotation = _collision_number(chk, gas.get("rotation", DEFAULT_ZROT), "gas.rotation",
+                                 "parker", entry.parker is not None, species)
+    vibration = chk.boolean(gas.get("vibration", False), "gas.vibration")
+    if vibration and entry.theta_vib_k is None:
+        chk.fail("gas.vibration", f"no vibrational data for {species}: rarefy models the "
+                                  "one mode of diatomic molecules (H2, N2, O2); allowed: false")
+    number = None
+    if "vibration_number" in gas and not vibration:
+        chk.fail("gas.vibration_number", "allowed only with vibration = true")
+    if vibration:
+        number = _collision_number(chk, gas.get("vibration_number", "millikan-white"),
+                                   "gas.vibration_number", "millikan-white", True, species)
+    return GasSpec(species, model, rotation, vibration, number, "rotation" in gas)
+
+
+def _collision_number(chk: Checker, value: Any, key: str, formula: str, has_formula: bool,
+                      species: str) -> float | str:
+    """A collision number: a plain number >= 1 or the name of the formula."""
+    if isinstance(value, str) and value.strip().lower() == formula:
+        if not has_formula:
+            chk.fail(key, f'"{formula}" needs published constants, which {species} lacks; '
+                          "give a number >= 1")
+        return formula
+    if isinstance(value, bool) or not isinstance(value, (int, float)) \
+            or not 1.0 <= value <= 1e12:
+        chk.fail(key, f'must be a number from 1 to 1e12 or "{formula}"; got {show(value)}')
+    return float(value)
 
 
 def _domain(chk: Checker, tbl: dict) -> Domain:

@@ -29,7 +29,8 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from rarefy.case import Case, CaseError
-from rarefy.gas import kinetic
+from rarefy.constants import K_B
+from rarefy.gas import internal, kinetic
 from rarefy.gas.species import get_species
 
 DEFAULT_PARTICLES_PER_CELL = 20.0
@@ -76,6 +77,13 @@ class Plan:
     batches: int
     expected_particles: float
     rot_dof: int = 0
+    rotation: str = ""               # "constant" or "parker" ("" for a monatomic gas)
+    rot_collision_number: float = 0.0   # Z_rot (at the reference temperature for Parker)
+    rot_selection_probability: float = 0.0  # Larsen-Borgnakke, per molecule and collision
+    vibration: bool = False
+    theta_vib_k: float = 0.0
+    vib_collision_number: float = 0.0   # Z_vib at the reference temperature
+    gamma: float = 5.0 / 3.0
     chosen: dict = field(default_factory=dict)  # key -> "case" or "auto"
     histogram_speed_max_m_s: float = 0.0
     histogram_bins: int = DEFAULT_HISTOGRAM_BINS
@@ -100,10 +108,15 @@ class Plan:
     def warnings(self) -> list[str]:
         """Resolution diagnostics that fail the usual limits."""
         out = []
-        if self.rot_dof:
-            out.append(f"{self.gas} has {self.rot_dof} rotational degrees of freedom, which "
-                       "this version does not exchange in collisions: it is simulated as a "
-                       "monatomic gas of the same mass and cross-section (gamma 5/3)")
+        if self.rot_dof and self.rot_selection_probability >= 0.5:
+            out.append(f"Z_rot = {self.rot_collision_number:.3g} is below what Larsen-"
+                       "Borgnakke exchange can reach for "
+                       f"{self.gas}: one molecule of every pair relaxes in every collision, "
+                       "so rotation relaxes more slowly than Z_rot says")
+        if self.gas == "H2" and self.chosen.get("rotation") == "auto":
+            out.append("H2 relaxes its rotation in hundreds of collisions near room "
+                       f"temperature, not the default Z_rot = {self.rot_collision_number:g};"
+                       " set gas.rotation")
         if self.cell_over_mfp > LIMIT_CELL_OVER_MFP * 1.05:
             out.append(f"cell size is {self.cell_over_mfp:.2f} mean free paths "
                        f"(usual limit {LIMIT_CELL_OVER_MFP:.2f}): collisions act over "
@@ -336,10 +349,41 @@ def _resolve(case: Case) -> Plan:
         nx=nx, ny=ny, cell_dx_m=dx, cell_dy_m=dy, subcells=subcells, time_step_s=dt,
         particle_weight=fnum, particles_per_cell=ppc, settle_steps=settle,
         sample_steps=sample, batches=batches,
-        expected_particles=ppc * nx * ny, rot_dof=sp.rot_dof,
+        expected_particles=ppc * nx * ny, **_internal(case, sp, model, t_ref, chosen),
         chosen=chosen, histogram_speed_max_m_s=histogram_speed_max(case, m),
         histogram_bins=case.histograms.bins or DEFAULT_HISTOGRAM_BINS,
     )
+
+
+def _internal(case: Case, sp, model, t_ref: float, chosen: dict) -> dict:
+    """Plan entries of the internal energy (``rarefy.gas.internal``)."""
+    g = case.gas
+    if not sp.rot_dof:
+        return {"rot_dof": 0}
+    chosen["rotation"] = "case" if g.rotation_set else "auto"
+    if g.rotation == "parker":
+        z = float(internal.parker_zrot(t_ref, *sp.parker))
+    else:
+        z = float(g.rotation)
+    out = {"rot_dof": sp.rot_dof, "rotation": "parker" if g.rotation == "parker" else
+           "constant", "rot_collision_number": z,
+           "rot_selection_probability": internal.selection_probability(z, sp.rot_dof,
+                                                                        model.omega),
+           "gamma": internal.gamma_of_gas(sp.rot_dof)}
+    if g.vibration:
+        out.update(vibration=True, theta_vib_k=sp.theta_vib_k,
+                   gamma=internal.gamma_of_gas(sp.rot_dof, t_ref, sp.theta_vib_k),
+                   vib_collision_number=vib_collision_number(g, model, t_ref, sp.theta_vib_k))
+    return out
+
+
+def vib_collision_number(g, model, t_k: float, theta_k: float) -> float:
+    """Z_vib: the case's number, or Millikan-White's p tau times nu / p at ``t_k``."""
+    if g.vibration_number != "millikan-white":
+        return float(g.vibration_number)
+    p_tau = internal.millikan_white_p_tau(t_k, model.mass_kg, theta_k)
+    nu_p = kinetic.collision_frequency(model, 1.0, t_k) / (K_B * t_k)
+    return float(max(1.0, p_tau * nu_p))
 
 
 def format_plan(plan: Plan) -> str:
@@ -366,6 +410,7 @@ def format_plan(plan: Plan) -> str:
         f"({src.get('sample_steps')}) in {plan.batches} batches",
         f"particles (estimate)   {plan.expected_particles:.3g} if the whole domain were at "
         "the reference state",
+        f"internal energy        {internal_line(plan)}",
         "",
         "resolution diagnostics (usual limits in brackets)",
         f"  cell size / mean free path       {plan.cell_over_mfp:.3g}  "
@@ -379,3 +424,20 @@ def format_plan(plan: Plan) -> str:
     warn = plan.warnings()
     lines += [""] + [f"warning: {w}" for w in warn] if warn else ["", "all within limits"]
     return "\n".join(lines)
+
+
+def internal_line(plan: Plan) -> str:
+    """One line on the internal energy the run exchanges."""
+    if not plan.rot_dof:
+        return "none (monatomic), gamma 5/3"
+    how = ("Parker's formula" if plan.rotation == "parker"
+           else plan.chosen.get("rotation", "case"))
+    at = f" at {plan.reference_temperature_k:.4g} K" if plan.rotation == "parker" else ""
+    text = (f"rotation {plan.rot_dof} dof, Z_rot {plan.rot_collision_number:.3g}{at} ({how});"
+            f" vibration ")
+    if plan.vibration:
+        text += (f"on (theta {plan.theta_vib_k:g} K, Z_vib "
+                 f"{plan.vib_collision_number:.3g} at {plan.reference_temperature_k:.4g} K)")
+    else:
+        text += "frozen"
+    return text + f"; gamma {plan.gamma:.4g}"

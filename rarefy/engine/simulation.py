@@ -16,7 +16,8 @@ import numpy as np
 
 from rarefy.case import SIDES, Case
 from rarefy.constants import K_B
-from rarefy.engine.particles import VX, VY, VZ, X, Y, ParticleStore
+from rarefy.engine.internal_params import internal_rows, kernel_parameters
+from rarefy.engine.particles import NVAR, VX, VY, VZ, X, Y, ParticleStore
 from rarefy.engine.steady import SteadyDetector
 from rarefy.gas import kinetic
 from rarefy.gas.species import get_species
@@ -24,7 +25,7 @@ from rarefy.geometry.cutcell import mask_inside_solids
 from rarefy.geometry.planar import Geometry, build_geometry
 from rarefy.geometry.probes import build_probes
 from rarefy.kernels.collide import collide_cells, collide_cells_par
-from rarefy.kernels.config import F_N_NEG, F_N_POS
+from rarefy.kernels.config import F_N_NEG, F_N_POS, N_SURF_TALLY
 from rarefy.kernels.index import counting_sort, counting_sort_par
 from rarefy.kernels.inject import N_INFLOW_COLS, inject, seed_generator
 from rarefy.kernels.move import compute_keys, move_all, move_all_par
@@ -86,6 +87,8 @@ class Simulation:
         sp = get_species(case.gas.species)
         self.model = sp.model(case.gas.model)
         self.mass = sp.mass_kg
+        self.ip = kernel_parameters(plan, self.model, sp, case.gas.vibration_number)
+        self.n_internal = internal_rows(plan)
         self.dt = plan.time_step_s
         self.fnum = plan.particle_weight
         self.axi = g.axisymmetric
@@ -110,7 +113,7 @@ class Simulation:
         # sized by the initial fill (ParticleStore.add) and grown as the flow fills the
         # domain; the plan's estimate (the whole domain at the reference density) is far
         # above what open cases hold
-        self.store = ParticleStore(self.inflow_max + 1024)
+        self.store = ParticleStore(self.inflow_max + 1024, NVAR + self.n_internal)
         self.clock = Clock()
         steps_per_batch = max(1, plan.sample_steps // plan.batches)
         self.probes = build_probes(case, g)
@@ -122,9 +125,8 @@ class Simulation:
         self.plane_rows = np.hstack([
             g.planes, np.full((len(g.planes), 1), nbins / self.speed_max),
             np.full((len(g.planes), 1), float(nbins))])
-        self._no_surf = np.zeros((0, 7))
         self._no_flux = np.zeros(self.acc.flux.shape[1:])
-        self._dummy_surf = np.zeros((len(g.facet_owner), 7))
+        self._dummy_surf = np.zeros((len(g.facet_owner), N_SURF_TALLY))
         self.detector = SteadyDetector()
         self.stop_check: Callable[[], bool] | None = None
         self._window_particles = 0.0
@@ -170,15 +172,29 @@ class Simulation:
                          for lo, hi, rate in zip(a[keep], c[keep], per_step)]
         return np.array(rows, dtype=np.float64).reshape(-1, N_INFLOW_COLS)
 
-    def add_particles(self, x, y, vx, vy, vz) -> None:
-        """Add particles (arrays, SI) and re-index; those inside solids are dropped."""
+    def add_particles(self, x, y, vx, vy, vz, *internal) -> None:
+        """Add particles (arrays, SI; then the internal energies per unit mass, m^2/s^2,
+        zero when not given) and re-index; those inside solids are dropped."""
         g = self.geom
         keep = np.ones(len(x), dtype=bool)
         if len(g.poly_start) > 1:
             mask_inside_solids(np.ascontiguousarray(x), np.ascontiguousarray(y), g.poly_x,
                                g.poly_y, g.poly_start, keep)
-        self.store.add(x[keep], y[keep], vx[keep], vy[keep], vz[keep])
+        self.store.add(*(np.asarray(a)[keep] for a in (x, y, vx, vy, vz, *internal)))
         self._index()
+
+    def equilibrium_internal(self, rng: np.random.Generator, count: int,
+                             t_k: float) -> list[np.ndarray]:
+        """Internal energies per unit mass (m^2/s^2) of ``count`` molecules in equilibrium
+        at ``t_k``: rotation Gamma(zeta_r / 2) kT, vibration whole quanta (geometric)."""
+        if not self.n_internal:
+            return []
+        kt_m = K_B * t_k / self.mass
+        rows = [rng.gamma(0.5 * self.plan.rot_dof, kt_m, count)]
+        if self.plan.vibration:
+            th = K_B * self.plan.theta_vib_k / self.mass
+            rows.append(np.floor(rng.exponential(kt_m / th, count)) * th)
+        return rows
 
     def _fill_initial(self) -> None:
         init = self.case.initial
@@ -204,7 +220,8 @@ class Simulation:
         self.add_particles(rng.uniform(g.box[0], g.box[1], count), y,
                            u[0] + sig * rng.standard_normal(count),
                            u[1] + sig * rng.standard_normal(count),
-                           u[2] + sig * rng.standard_normal(count))
+                           u[2] + sig * rng.standard_normal(count),
+                           *self.equilibrium_internal(rng, count, init.temperature_k))
 
     def _index(self) -> None:
         st, g = self.store, self.geom
@@ -233,8 +250,9 @@ class Simulation:
         room = n0 + self.inflow_max
         st.reserve(room + (max(4096, room // 4) if self.axi else 0))
         s = st.state
-        n1 = inject(self.inflow, n0, s[X], s[Y], s[VX], s[VY], s[VZ], self.tfrac) \
-            if len(self.inflow) else n0
+        eint = s[NVAR:]
+        n1 = inject(self.inflow, n0, s[X], s[Y], s[VX], s[VY], s[VZ], eint, self.ip,
+                    self.tfrac) if len(self.inflow) else n0
         st.n = n1
         t1 = time.perf_counter()
         stally = acc.surf[acc.batch] if sampling else self._dummy_surf
@@ -244,16 +262,18 @@ class Simulation:
         par = run_parallel(n1)
         if self.axi:
             st.n, lost = (move_all_axi_par if par else move_all_axi)(
-                n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key, g.segs,
-                g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows, stally, ftally,
-                tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free, g.row_weight,
+                n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], eint, self.ip,
+                st.key, g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows,
+                stally, ftally, tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free,
+                g.row_weight,
                 st.capacity, self.row_balance, mkey)
             self.lost_duplicates += lost
         else:
             (move_all_par if par else move_all)(
-                n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], st.key, g.segs,
-                g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows, stally, ftally,
-                tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free, mkey)
+                n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], eint, self.ip,
+                st.key, g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows,
+                stally, ftally, tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free,
+                mkey)
         t2 = time.perf_counter()
         self._sort(par)
         s = st.state
@@ -266,7 +286,7 @@ class Simulation:
         (collide_cells_par if par else collide_cells)(
             g.ncell, self.nsub, self.key_start, s[X], s[Y], s[VX], s[VY], s[VZ], g.volume,
             self.sigcr_max, self.remainder, self.cell_fnum, self.dt, self.a_coef,
-            self.exponent, self.model.alpha,
+            self.exponent, self.model.alpha, s[NVAR:], self.ip,
             step_key(self.rng_key, self.clock.step, SALT_COLLIDE), acc.cell_batch, sampling,
             self.coll_stats)
         t4 = time.perf_counter()
@@ -287,11 +307,13 @@ class Simulation:
         moments are sampled inside the collision kernel)."""
         g, acc, pr = self.geom, self.acc, self.probes
         sample_probes(pr.box, pr.cells, pr.cell_start, self.nsub, self.key_start,
-                      self.cell_weight, s[X], s[Y], s[VX], s[VY], s[VZ], self.speed_max,
+                      self.cell_weight, s[X], s[Y], s[VX], s[VY], s[VZ], s[NVAR:],
+                      self.speed_max,
                       acc.probe_mom[acc.batch], acc.probe_hist[acc.batch], weight)
 
     def _batch_fields(self, sums: np.ndarray, nsteps: int) -> dict:
-        return fields_from_moments(sums, nsteps, self.geom.volume, self.mass, self.cell_fnum)
+        return fields_from_moments(sums, nsteps, self.geom.volume, self.mass, self.cell_fnum,
+                                   self.plan.rot_dof, self.plan.theta_vib_k)
 
     def _after_step(self, phase: str, done: int, total: int, progress, every: int,
                     checkpoint) -> None:

@@ -89,6 +89,14 @@ class Species:
         Rotational degrees of freedom (0 monatomic, 2 linear, 3 non-linear).
     source : str
         Citation of the numbers.
+    parker : tuple of float or None
+        Parker's (1959) constants (Z_inf, T* in K) of the temperature-dependent
+        rotational collision number, where published values exist (N2, O2).
+    theta_vib_k : float or None
+        Characteristic vibrational temperature of the one vibrational mode rarefy
+        models (diatomic molecules), K; None where the molecule has several modes.
+    internal_source : str
+        Citation of ``parker`` and ``theta_vib_k``.
     """
 
     name: str
@@ -102,6 +110,9 @@ class Species:
     t_ref_k: float
     rot_dof: int
     source: str
+    parker: tuple[float, float] | None = None
+    theta_vib_k: float | None = None
+    internal_source: str = ""
 
     @property
     def has_vss(self) -> bool:
@@ -152,28 +163,45 @@ class Species:
             f"unknown molecular model {kind!r}; allowed: {', '.join(MODEL_KINDS)}")
 
 
-def _sp(name, long_name, m27, mu5, omega, d10, alpha, dvss10, rot_dof):
+def _sp(name, long_name, m27, mu5, omega, d10, alpha, dvss10, rot_dof, parker=None,
+        theta_vib=None, source=BIRD_1994_APP_A):
     """Row of Bird's table in its units (1e-27 kg, 1e-5 Pa s, 1e-10 m) -> Species."""
+    cited = [c for c, v in ((PARKER_CONSTANTS, parker), (THETA_VIB, theta_vib)) if v]
     return Species(
         name=name, long_name=long_name, mass_kg=m27 * 1e-27,
         mu_ref_pa_s=mu5 * 1e-5, omega=omega, d_vhs_m=d10 * 1e-10,
         alpha=alpha, d_vss_m=None if dvss10 is None else dvss10 * 1e-10,
-        t_ref_k=273.0, rot_dof=rot_dof, source=BIRD_1994_APP_A)
+        t_ref_k=273.0, rot_dof=rot_dof, source=source, parker=parker,
+        theta_vib_k=theta_vib, internal_source="; ".join(cited))
 
+
+PARKER_CONSTANTS = (
+    "Parker 1959, Phys. Fluids 2, 449, constants Z_inf and T* as used in DSMC by Boyd "
+    "1990, Phys. Fluids A 2, 447 (values from memory)")
+THETA_VIB = ("Bird 1994, Appendix A, Table A5, characteristic vibrational temperatures "
+             "(from memory; they equal hc omega_e / k of Herzberg's spectroscopic constants)")
+IAPWS_H2O = (
+    "VHS fit (omega 1.0, 250-400 K, max. deviation 1.9 %) to the dilute-gas viscosity of "
+    "the IAPWS 2008 formulation, Huber et al. 2009, J. Phys. Chem. Ref. Data 38, 101, "
+    "eq. 11 (coefficients from memory; mu0(373.15 K) = 12.34 uPa s)")
 
 # Bird 1994, Appendix A, Tables A1/A2, T_ref = 273 K (from memory; see module doc).
-# Air: VHS only -- its VSS pair could not be checked.
+# Air: VHS only -- its VSS pair could not be checked. H2O: see IAPWS_H2O; no VSS data.
 _ROWS = (
     _sp("He", "helium", 6.65, 1.865, 0.66, 2.33, 1.26, 2.30, 0),
     _sp("Ne", "neon", 33.5, 2.975, 0.66, 2.77, 1.31, 2.72, 0),
     _sp("Ar", "argon", 66.3, 2.117, 0.81, 4.17, 1.40, 4.11, 0),
     _sp("Kr", "krypton", 139.1, 2.328, 0.80, 4.76, 1.32, 4.70, 0),
     _sp("Xe", "xenon", 218.0, 2.107, 0.85, 5.74, 1.44, 5.65, 0),
-    _sp("H2", "hydrogen", 3.34, 0.845, 0.67, 2.92, 1.35, 2.88, 2),
-    _sp("N2", "nitrogen", 46.5, 1.656, 0.74, 4.17, 1.36, 4.11, 2),
-    _sp("O2", "oxygen", 53.12, 1.919, 0.77, 4.07, 1.40, 4.01, 2),
+    _sp("H2", "hydrogen", 3.34, 0.845, 0.67, 2.92, 1.35, 2.88, 2, theta_vib=6159.0),
+    _sp("N2", "nitrogen", 46.5, 1.656, 0.74, 4.17, 1.36, 4.11, 2, parker=(23.0, 91.5),
+        theta_vib=3371.0),
+    _sp("O2", "oxygen", 53.12, 1.919, 0.77, 4.07, 1.40, 4.01, 2, parker=(16.5, 113.5),
+        theta_vib=2256.0),
     _sp("CO2", "carbon dioxide", 73.1, 1.380, 0.93, 5.62, 1.61, 5.54, 2),
     _sp("CH4", "methane", 26.63, 1.024, 0.84, 4.83, 1.60, 4.78, 3),
+    _sp("H2O", "water vapour", 29.915, 0.8943, 1.00, 5.79, None, None, 3,
+        source=IAPWS_H2O),
     _sp("air", "air", 48.1, 1.719, 0.77, 4.19, None, None, 2),
 )
 

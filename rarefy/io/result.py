@@ -83,23 +83,30 @@ FIELD_LONG_NAMES = {
     "temperature_z": "translational temperature from the z velocity component",
     "pressure": "pressure (n k T)",
     "shear_stress_xy": "shear stress, xy component",
-    "heat_flux_x": "heat flux, x component",
-    "heat_flux_y": "heat flux, y component",
+    "heat_flux_x": "heat flux of the translational energy, x component",
+    "heat_flux_y": "heat flux of the translational energy, y component",
     "particles_per_cell": "mean number of simulated particles per cell",
+    "temperature_rotational": "rotational temperature",
+    "temperature_vibrational": "vibrational temperature (harmonic mode)",
+    "temperature_overall": "overall temperature (translation, rotation, vibration)",
 }
 
 MOMENT_COLUMNS = ("count (1), sum vx (m/s), sum vy (m/s), sum vz (m/s), sum vx^2 (m^2/s^2), "
                   "sum vy^2, sum vz^2, sum vx vy, sum vx vz, sum vy vz, sum c^2 vx "
-                  "(m^3/s^3), sum c^2 vy, sum c^2 (m^2/s^2)")
+                  "(m^3/s^3), sum c^2 vy, sum c^2 (m^2/s^2), sum of rotational energy per "
+                  "unit mass (m^2/s^2), sum of vibrational energy per unit mass")
 SURFACE_COLUMNS = ("hits (1), sum of incident normal speed (m/s), sum of reflected normal "
                    "speed, sum of incident tangential velocity (m/s), sum of reflected "
-                   "tangential velocity, sum of incident c^2 (m^2/s^2), sum of reflected c^2")
+                   "tangential velocity, sum of incident c^2 (m^2/s^2), sum of reflected c^2, "
+                   "sums of incident and of re-emitted internal energy per unit mass "
+                   "(m^2/s^2)")
 FLUX_COLUMNS = ("positive crossings (1), negative crossings (1), sums of c (m/s) positive, "
                 "negative, sums of c^2 (m^2/s^2) positive, negative, then the speed "
                 "histogram of positive crossings (bins of speed_edges, then overflow) and "
                 "that of negative crossings (the same)")
 PROBE_MOMENT_COLUMNS = ("weighted sums of 1, vx, vy, vz (m/s), vx^2, vy^2, vz^2, vx vy, "
-                        "vx vz, vy vz (m^2/s^2), c (m/s), c^2 (m^2/s^2)")
+                        "vx vz, vy vz (m^2/s^2), c (m/s), c^2 (m^2/s^2), rotational and "
+                        "vibrational energy per unit mass (m^2/s^2)")
 HISTOGRAM_ROWS = ("speed on [0, vmax), vx, vy, vz on [-vmax, vmax); bins of equal width, "
                   "the last bin collecting what falls outside")
 COLLISION_COLUMNS = "collisions (1), sum of collision-pair separations (m), candidates (1)"
@@ -220,7 +227,8 @@ def _write(tmp: Path, sim, interrupted: bool, status: str | None) -> None:
     acc, geom, plan = sim.acc, sim.geom, sim.plan
     nb = acc.batch
     nsteps = max(1, nb * acc.steps_per_batch)
-    fields = fields_from_moments(acc.cell_total, nsteps, geom.volume, sim.mass, sim.cell_fnum)
+    fields = fields_from_moments(acc.cell_total, nsteps, geom.volume, sim.mass, sim.cell_fnum,
+                                 plan.rot_dof, plan.theta_vib_k)
     axisymmetric = sim.case.domain.geometry == "axisymmetric"
     with h5py.File(tmp, "w") as f:
         f.attrs.update(

@@ -22,6 +22,13 @@ A point uniform in the unit disk gives the azimuth without sine or cosine and, t
 its squared radius q (uniform on (0, 1), independent of the azimuth), the deflection:
 isotropic directions are then Marsaglia's (1972) (2q - 1, 2u sqrt(1 - q), 2v sqrt(1 - q)).
 
+Molecules with internal energy (``ip[IP_ROT_DOF]`` > 0) exchange it with the pair's
+relative motion by Larsen-Borgnakke before the scattering (``rarefy.kernels.internal``);
+the relative speed is then sqrt(4 E_t / m) of the new translational energy.
+With Parker's Z_rot or Millikan-White's Z_vib the cell's translational temperature (of
+its particles before the collisions, with the N / (N - 1) correction) sets the
+probabilities.
+
 When sampling, each cell's moments are added with weight 1/2 before and after its
 collisions while the cell is in cache (see ``rarefy.kernels.sample``).
 """
@@ -29,7 +36,10 @@ collisions while the cell is in cache (see ``rarefy.kernels.sample``).
 import numpy as np
 from numba import njit, prange
 
-from rarefy.kernels.config import JIT, serial_and_parallel
+from rarefy.kernels.config import (
+    IP_M_OVER_K, IP_ROT_DOF, IP_ROT_MODE, IP_VIB_MODE, IP_VIB_TH, JIT, serial_and_parallel,
+)
+from rarefy.kernels.internal import cell_probabilities, exchange
 from rarefy.kernels.rng import stream, uniform, unit_disk
 from rarefy.kernels.sample import add_cell_moments
 
@@ -55,9 +65,24 @@ def scatter(s, urx, ury, urz, cr, alpha):
     return s, sg * cr * cosx, cr * sinx * ce, cr * sinx * se
 
 
+@njit(inline="always", **JIT)
+def cell_temperature(lo, hi, vx, vy, vz, m_over_k):
+    """Translational temperature (K) of particles lo..hi-1, with the N / (N - 1)
+    correction for the sample mean."""
+    n = hi - lo
+    sx = sy = sz = s2 = 0.0
+    for i in range(lo, hi):
+        sx += vx[i]
+        sy += vy[i]
+        sz += vz[i]
+        s2 += vx[i] * vx[i] + vy[i] * vy[i] + vz[i] * vz[i]
+    var = (s2 - (sx * sx + sy * sy + sz * sz) / n) / (n - 1)
+    return m_over_k * var / 3.0
+
+
 def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
-                  cell_fnum, dt, a_coef, exponent, alpha, rng_key, moments, sampling,
-                  stats):
+                  cell_fnum, dt, a_coef, exponent, alpha, eint, ip, rng_key, moments,
+                  sampling, stats):
     """NTC collisions in every cell; with ``sampling``, also the cell moments.
 
     Parameters
@@ -67,6 +92,8 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
     sigcr_max, remainder : float64[ncell], kept between steps.
     cell_fnum : float64[ncell], real molecules per simulated particle in each cell.
     a_coef, exponent : sigma_T c_r = a_coef * c_r**exponent (m^3/s).
+    eint : float64[rows, capacity], internal energies per unit mass (rows: rotation, then
+        vibration; none for a monatomic gas); ``ip`` their parameters (``IP_*``).
     rng_key : uint64, this step's key of the per-cell random streams.
     moments : float64[ncell, N_MOMENTS] receives half the moments before and half after
         the collisions when ``sampling``.
@@ -74,6 +101,9 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
     """
     ns2 = nsub * nsub
     hard = exponent == 1.0
+    inner = ip[IP_ROT_DOF] > 0.0
+    per_cell = inner and (ip[IP_ROT_MODE] == 1.0 or (ip[IP_VIB_TH] > 0.0
+                                                     and ip[IP_VIB_MODE] == 1.0))
     n_coll = 0.0                  # whole numbers: their parallel sum is exact
     n_cand = 0.0
     sep_cell = np.zeros(ncell)    # summed in cell order below, whatever the threads
@@ -82,10 +112,10 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
         hi = key_start[(c + 1) * ns2]
         npart = hi - lo
         if sampling and npart > 0:
-            add_cell_moments(lo, hi, vx, vy, vz, moments, c, 0.5)
+            add_cell_moments(lo, hi, vx, vy, vz, eint, moments, c, 0.5)
         if npart < 2 or volume[c] <= 0.0:
             if sampling and npart > 0:
-                add_cell_moments(lo, hi, vx, vy, vz, moments, c, 0.5)
+                add_cell_moments(lo, hi, vx, vy, vz, eint, moments, c, 0.5)
             continue
         expected = 0.5 * npart * (npart - 1) * cell_fnum[c] * sigcr_max[c] * dt / volume[c] \
             + remainder[c]
@@ -93,6 +123,13 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
         remainder[c] = expected - ncand
         s = stream(rng_key, c)
         cmax = sigcr_max[c]
+        prot = 0.0
+        pvib = 0.0
+        if inner:
+            t_cell = 0.0
+            if per_cell and ncand > 0:
+                t_cell = cell_temperature(lo, hi, vx, vy, vz, ip[IP_M_OVER_K])
+            prot, pvib = cell_probabilities(ip, t_cell)
         c_coll = 0
         c_sep = 0.0
         for _ in range(ncand):
@@ -132,6 +169,15 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
             cmx = 0.5 * (vx[i] + vx[j])
             cmy = 0.5 * (vy[i] + vy[j])
             cmz = 0.5 * (vz[i] + vz[j])
+            if inner:
+                et = 0.25 * cr * cr
+                s, et = exchange(s, eint, i, j, et, prot, pvib, ip)
+                crn = 2.0 * np.sqrt(et)
+                f = crn / cr
+                urx *= f
+                ury *= f
+                urz *= f
+                cr = crn          # 0 only if rotation took all: scatter then gives 0
             s, nx, ny, nz = scatter(s, urx, ury, urz, cr, alpha)
             vx[i] = cmx + 0.5 * nx
             vy[i] = cmy + 0.5 * ny
@@ -145,7 +191,7 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
             c_sep += np.sqrt(dxs * dxs + dys * dys)
         sigcr_max[c] = cmax
         if sampling:
-            add_cell_moments(lo, hi, vx, vy, vz, moments, c, 0.5)
+            add_cell_moments(lo, hi, vx, vy, vz, eint, moments, c, 0.5)
         n_coll += c_coll
         sep_cell[c] = c_sep
         n_cand += ncand

@@ -41,9 +41,10 @@ W_X0, W_Y0, W_X1, W_Y1, W_SIGMA, W_ACC, W_VEL = range(7)
 # surface parameters.
 P_START, P_END, P_SIGMA, P_ACC, P_VEL = range(5)
 
-# Columns of the surface tallies (per facet).
-T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, T_C2_IN, T_C2_OUT = range(7)
-N_SURF_TALLY = 7
+# Columns of the surface tallies (per facet); T_EI_*: internal energy per unit mass
+# (rotational + vibrational, m^2/s^2) of the incident and re-emitted molecules.
+T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, T_C2_IN, T_C2_OUT, T_EI_IN, T_EI_OUT = range(9)
+N_SURF_TALLY = 9
 
 # Columns of the flux-plane tallies (per plane): positive / negative crossings, then
 # the speed histograms of the crossings: F_HIST + b (positive, bins b = 0..nb-1, then an
@@ -55,14 +56,29 @@ F_HIST = 6
 # histogram bins per (m/s) and number of bins.
 PL_INV_DV, PL_NBINS = 4, 5
 
-# Probe sums (per probe): weight, first and second velocity moments, speed, speed^2.
+# Probe sums (per probe): weight, first and second velocity moments, speed, speed^2,
+# rotational and vibrational energy per unit mass (m^2/s^2).
 (PM_W, PM_VX, PM_VY, PM_VZ, PM_VXX, PM_VYY, PM_VZZ, PM_VXY, PM_VXZ, PM_VYZ, PM_C,
- PM_C2) = range(12)
-N_PROBE_MOMENTS = 12
+ PM_C2, PM_EROT, PM_EVIB) = range(14)
+N_PROBE_MOMENTS = 14
 # Probe histograms (per probe): speed, vx, vy, vz, each nb bins plus an overflow bin.
 H_SPEED, H_VX, H_VY, H_VZ = range(4)
 
-# Columns of the cell moment sums.
+# Columns of the cell moment sums; M_EROT, M_EVIB: internal energies per unit mass
+# (m^2/s^2).
 (M_N, M_VX, M_VY, M_VZ, M_VXX, M_VYY, M_VZZ, M_VXY, M_VXZ, M_VYZ,
- M_C2VX, M_C2VY, M_C2) = range(13)
-N_MOMENTS = 13
+ M_C2VX, M_C2VY, M_C2, M_EROT, M_EVIB) = range(15)
+N_MOMENTS = 15
+
+# Internal-energy parameters handed to the kernels (one float64 array, ``internal``):
+# rotational dof (0: none), Z_rot mode (0 constant, 1 Parker), selection probability
+# (constant mode), Parker's Z_inf and T* (K), the factor (1 + zeta_r / (5 - 2 omega)) that
+# turns 1/Z_rot into a selection probability; vibrational quantum k theta / m (m^2/s^2,
+# 0: vibration off), theta (K), Z_vib mode (0 constant, 1 Millikan-White), selection
+# probability (constant mode), Millikan-White A and B, nu / p = NU_P T^-omega (1/(Pa s)),
+# m / k (K s^2/m^2) and omega. Stored internal energies are per unit mass (m^2/s^2), in
+# the particle rows after vz: rotational, then vibrational.
+(IP_ROT_DOF, IP_ROT_MODE, IP_ROT_P, IP_ZINF, IP_TSTAR, IP_ROT_FACTOR, IP_VIB_TH,
+ IP_THETA, IP_VIB_MODE, IP_VIB_P, IP_MW_A, IP_MW_B, IP_NU_P, IP_M_OVER_K,
+ IP_OMEGA) = range(15)
+N_INTERNAL_PAR = 15

@@ -14,6 +14,7 @@ import numpy as np
 from numba import njit
 
 from rarefy.kernels.config import JIT, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN
+from rarefy.kernels.internal import inject_internal
 
 # columns of the inflow rows; I_AXI = 1: an end disk of an axisymmetric domain, where
 # the radius is drawn with density ~ r
@@ -45,12 +46,14 @@ def flux_weighted_normal(s):
 
 
 @njit(**JIT)
-def inject(inflow, n, x, y, vx, vy, vz, tfrac):
+def inject(inflow, n, x, y, vx, vy, vz, eint, ip, tfrac):
     """Append the molecules entering this step at index ``n``; returns the new count.
 
     ``inflow[k]`` holds side, start, end, position of the side, v_mp, drift
     (ux, uy, uz) and the expected number per step. ``tfrac`` receives each new
-    molecule's fraction of the step still to fly.
+    molecule's fraction of the step still to fly. Internal energies (``eint``, parameters
+    ``ip``) are drawn in equilibrium at the reservoir's temperature: the flux of
+    molecules through a plane is weighted by their velocity only.
     """
     m = n
     for k in range(inflow.shape[0]):
@@ -83,6 +86,7 @@ def inject(inflow, n, x, y, vx, vy, vz, tfrac):
                 vy[m] = sign * vn
                 vx[m] = ux + sig * np.random.standard_normal()
             vz[m] = uz + sig * np.random.standard_normal()
+            inject_internal(eint, m, ip, sig * sig)
             tfrac[m - n] = np.random.random()
             m += 1
     return m

@@ -6,7 +6,10 @@ left. Gas-surface interaction follows the Maxwell model: with probability
 equal to the accommodation coefficient the molecule is re-emitted diffusely at
 the wall temperature (normal speed from the flux-weighted half-range
 Maxwellian, sqrt(-2 ln R) sqrt(kT_w/m); tangential components Gaussian with
-variance kT_w/m; Bird 1994 sec. 12.3), else specularly.
+variance kT_w/m; Bird 1994 sec. 12.3), else specularly. A diffusely re-emitted
+molecule also takes rotational and vibrational energy in equilibrium at T_w (full
+accommodation of internal energy); a specular one keeps its own
+(``rarefy.kernels.internal.wall_internal``).
 
 Geometry arrives as plain arrays (see ``rarefy.geometry.planar``):
 
@@ -25,9 +28,10 @@ from numba import njit, prange
 from rarefy.kernels.config import (
     BND_ABSORB, BND_PERIODIC, F_C2_NEG, F_C2_POS, F_C_NEG, F_C_POS, F_HIST, F_N_NEG, F_N_POS,
     JIT, PL_INV_DV, PL_NBINS, serial_and_parallel, P_ACC, P_END, P_SIGMA, P_START, P_VEL, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMIN, T_C2_IN, T_C2_OUT,
-    T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, W_ACC, W_SIGMA, W_VEL, W_X0, W_X1, W_Y0,
+    T_EI_IN, T_EI_OUT, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, W_ACC, W_SIGMA, W_VEL, W_X0, W_X1, W_Y0,
     W_Y1,
 )
+from rarefy.kernels.internal import wall_internal
 from rarefy.kernels.rng import normal, stream, uniform
 
 MAX_EVENTS = 1000  # events in one step before a particle is declared lost
@@ -41,8 +45,8 @@ def reflect(s, vx, vy, vz, nx, ny, sigma, acc, vel, tx, ty):
     """Post-interaction velocity at a surface with unit normal (nx, ny) into the gas.
 
     (tx, ty) is the unit tangent along which the wall moves at speed ``vel``; ``s`` is
-    the particle's random stream (``rarefy.kernels.rng``). Returns (next counter, new
-    vx, vy, vz). Diffuse with probability ``acc`` (Maxwell model).
+    the particle's random stream (``rarefy.kernels.rng``). Returns (next counter,
+    diffuse, new vx, vy, vz). Diffuse with probability ``acc`` (Maxwell model).
     """
     s, r = uniform(s)
     if r < acc:
@@ -51,13 +55,13 @@ def reflect(s, vx, vy, vz, nx, ny, sigma, acc, vel, tx, ty):
         s, g1 = normal(s)
         s, g2 = normal(s)
         vt = sigma * g1 + vel
-        return s, vn * nx + vt * tx, vn * ny + vt * ty, sigma * g2
+        return s, True, vn * nx + vt * tx, vn * ny + vt * ty, sigma * g2
     vdotn = vx * nx + vy * ny
-    return s, vx - 2.0 * vdotn * nx, vy - 2.0 * vdotn * ny, vz
+    return s, False, vx - 2.0 * vdotn * nx, vy - 2.0 * vdotn * ny, vz
 
 
 @njit(**JIT)
-def _tally_surface(tally, facet, vx0, vy0, vz0, vx1, vy1, vz1, nx, ny, tx, ty, w):
+def _tally_surface(tally, facet, vx0, vy0, vz0, vx1, vy1, vz1, nx, ny, tx, ty, e0, e1, w):
     tally[facet, T_HITS] += w
     tally[facet, T_VN_IN] += -(vx0 * nx + vy0 * ny) * w
     tally[facet, T_VN_OUT] += (vx1 * nx + vy1 * ny) * w
@@ -65,6 +69,8 @@ def _tally_surface(tally, facet, vx0, vy0, vz0, vx1, vy1, vz1, nx, ny, tx, ty, w
     tally[facet, T_VT_OUT] += (vx1 * tx + vy1 * ty) * w
     tally[facet, T_C2_IN] += (vx0 * vx0 + vy0 * vy0 + vz0 * vz0) * w
     tally[facet, T_C2_OUT] += (vx1 * vx1 + vy1 * vy1 + vz1 * vz1) * w
+    tally[facet, T_EI_IN] += e0 * w
+    tally[facet, T_EI_OUT] += e1 * w
 
 
 @njit(inline="always", **JIT)
@@ -150,11 +156,12 @@ def _facet_of(first, nbins, frac):
 
 
 @njit(inline="always", **JIT)
-def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, planes,
-             stally, ftally, sampling, nudge, rng_key):
+def move_one(i, t, x, y, vx, vy, vz, eint, ip, segs, seg_tally, box, pieces, piece_int,
+             planes, stally, ftally, sampling, nudge, rng_key):
     """Move particle ``i`` for time ``t`` (s). Returns False if it left the domain.
 
-    Surface interactions draw from the particle's stream under ``rng_key``."""
+    Surface interactions draw from the particle's stream under ``rng_key``; ``eint`` and
+    ``ip`` are the internal energies and their parameters (``rarefy.kernels.internal``)."""
     s = stream(rng_key, i)
     last = -1
     for _event in range(MAX_EVENTS):
@@ -224,11 +231,13 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
             hx = px + ux * t_hit
             hy = py + uy * t_hit
             w0x, w0y, w0z = ux, uy, vz[i]
-            s, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny, segs[k_hit, W_SIGMA],
-                                       segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, ty)
+            s, dif, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny, segs[k_hit, W_SIGMA],
+                                            segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, ty)
+            s, e0, e1 = wall_internal(s, eint, i, dif, segs[k_hit, W_SIGMA], ip)
             if sampling and seg_tally[k_hit, 1] > 0:
                 f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit)
-                _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, 1.0)
+                _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, e0,
+                               e1, 1.0)
             vx[i] = nvx
             vy[i] = nvy
             vz[i] = nvz
@@ -272,12 +281,14 @@ def move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int, pl
         # reflecting side: inward normal, tangent along +x (y-sides) or +y (x-sides)
         nx, ny, tx, ty = side_frame(side)
         w0x, w0y, w0z = ux, uy, vz[i]
-        s, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny, pieces[j, P_SIGMA],
-                                   pieces[j, P_ACC], pieces[j, P_VEL], tx, ty)
+        s, dif, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny, pieces[j, P_SIGMA],
+                                        pieces[j, P_ACC], pieces[j, P_VEL], tx, ty)
+        s, e0, e1 = wall_internal(s, eint, i, dif, pieces[j, P_SIGMA], ip)
         if sampling and piece_int[j, 3] > 0:
             frac = (coord - pieces[j, P_START]) / (pieces[j, P_END] - pieces[j, P_START])
             f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac)
-            _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, 1.0)
+            _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, e0, e1,
+                           1.0)
         vx[i] = nvx
         vy[i] = nvy
         vz[i] = nvz
@@ -327,9 +338,9 @@ def chunk_bounds(n, nchunk, ch):
     return (n * ch) // nchunk, (n * (ch + 1)) // nchunk
 
 
-def move_all_py(n, first_new, tfrac, dt, x, y, vx, vy, vz, key, segs, seg_tally, box, pieces,
-             piece_int, planes, stally, ftally, sampling, nudge, nx, ny, dx, dy, nsub, free,
-             rng_key):
+def move_all_py(n, first_new, tfrac, dt, x, y, vx, vy, vz, eint, ip, key, segs, seg_tally, box,
+                pieces, piece_int, planes, stally, ftally, sampling, nudge, nx, ny, dx, dy,
+                nsub, free, rng_key):
     """Move particles 0..n-1: older ones for ``dt``, those from ``first_new`` on for
     ``tfrac[i - first_new] * dt``. Writes each particle's sort key (-1: removed).
 
@@ -367,8 +378,8 @@ def move_all_py(n, first_new, tfrac, dt, x, y, vx, vy, vz, key, segs, seg_tally,
                     y[i] = qy
                     key[i] = cell_key(qx, qy, box, nx, ny, dx, dy, nsub)
                     continue
-            alive = move_one(i, t, x, y, vx, vy, vz, segs, seg_tally, box, pieces, piece_int,
-                             planes, stc, ftc, sampling, nudge, rng_key)
+            alive = move_one(i, t, x, y, vx, vy, vz, eint, ip, segs, seg_tally, box, pieces,
+                             piece_int, planes, stc, ftc, sampling, nudge, rng_key)
             if alive:
                 key[i] = cell_key(x[i], y[i], box, nx, ny, dx, dy, nsub)
             else:

@@ -36,6 +36,7 @@ from rarefy.kernels.move import (
     MAX_EVENTS, _facet_of, _tally_surface, cell_key, chunk_bounds, chunks, find_piece,
     reflect, side_frame, tally_crossing,
 )
+from rarefy.kernels.internal import wall_internal
 from rarefy.kernels.rng import stream
 
 
@@ -117,10 +118,11 @@ def _cross_planes_axi(px, pr, ux, ur, ut, t, planes, ftally, w):
 
 
 @njit(inline="always", **JIT)
-def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int, planes,
-                 stally, ftally, sampling, nudge, w, rng_key):
+def move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, segs, seg_tally, box, pieces, piece_int,
+                 planes, stally, ftally, sampling, nudge, w, rng_key):
     """Move particle ``i`` for time ``t`` (s); False if it left the domain. Surface
-    interactions draw from the particle's stream under ``rng_key``."""
+    interactions draw from the particle's stream under ``rng_key`` and accommodate the
+    internal energies ``eint`` (parameters ``ip``; ``rarefy.kernels.internal``)."""
     s = stream(rng_key, i)
     for _event in range(MAX_EVENTS):
         px = x[i]
@@ -181,11 +183,13 @@ def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int
             if ux * nx + wr * nr > 0.0:
                 nx = -nx
                 nr = -nr
-            s, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, segs[k_hit, W_SIGMA],
-                                       segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, tr_)
+            s, dif, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, segs[k_hit, W_SIGMA],
+                                            segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, tr_)
+            s, e0, e1 = wall_internal(s, eint, i, dif, segs[k_hit, W_SIGMA], ip)
             if sampling and seg_tally[k_hit, 1] > 0:
                 f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit)
-                _tally_surface(stally, f, ux, wr, wt, nvx, nvr, nvt, nx, nr, tx, tr_, w)
+                _tally_surface(stally, f, ux, wr, wt, nvx, nvr, nvt, nx, nr, tx, tr_, e0, e1,
+                               w)
             x[i] = hx + nudge * nx
             r[i] = abs(hr + nudge * nr)
             vx[i] = nvx
@@ -211,12 +215,13 @@ def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int
             vt[i] = wt
             continue
         nx, nr, tx, tr_ = side_frame(side)   # the axis (ymin) is never met
-        s, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, pieces[j, P_SIGMA],
-                                   pieces[j, P_ACC], pieces[j, P_VEL], tx, tr_)
+        s, dif, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, pieces[j, P_SIGMA],
+                                        pieces[j, P_ACC], pieces[j, P_VEL], tx, tr_)
+        s, e0, e1 = wall_internal(s, eint, i, dif, pieces[j, P_SIGMA], ip)
         if sampling and piece_int[j, 3] > 0:
             frac = (coord - pieces[j, P_START]) / (pieces[j, P_END] - pieces[j, P_START])
             f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac)
-            _tally_surface(stally, f, ux, wr, wt, nvx, nvr, nvt, nx, nr, tx, tr_, w)
+            _tally_surface(stally, f, ux, wr, wt, nvx, nvr, nvt, nx, nr, tx, tr_, e0, e1, w)
         x[i] = hx + nudge * nx
         r[i] = hr + nudge * nr
         vx[i] = nvx
@@ -225,7 +230,8 @@ def move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces, piece_int
     return False
 
 
-def move_all_axi_py(n, first_new, tfrac, dt, x, r, vx, vr, vt, key, segs, seg_tally, box,
+def move_all_axi_py(n, first_new, tfrac, dt, x, r, vx, vr, vt, eint, ip, key, segs, seg_tally,
+                    box,
                  pieces, piece_int, planes, stally, ftally, sampling, nudge, nx, ny, dx, dr,
                  nsub, free, row_weight, capacity, balance, rng_key):
     """Move particles 0..n-1 (those from ``first_new`` on for ``tfrac * dt``), apply the
@@ -269,8 +275,8 @@ def move_all_axi_py(n, first_new, tfrac, dt, x, r, vx, vr, vt, key, segs, seg_ta
                 r[i], vr[i], vt[i] = rotate_to(pr, vr[i], vt[i], t)
                 alive = True
             else:
-                alive = move_one_axi(i, t, x, r, vx, vr, vt, segs, seg_tally, box, pieces,
-                                     piece_int, planes, stc, ftc, sampling, nudge,
+                alive = move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, segs, seg_tally, box,
+                                     pieces, piece_int, planes, stc, ftc, sampling, nudge,
                                      row_weight[j0], rng_key)
             if not alive:
                 key[i] = -1
@@ -314,6 +320,8 @@ def move_all_axi_py(n, first_new, tfrac, dt, x, r, vx, vr, vt, key, segs, seg_ta
             vx[m] = vx[i]
             vr[m] = vr[i]
             vt[m] = vt[i]
+            for e in range(eint.shape[0]):
+                eint[e, m] = eint[e, i]
             key[m] = k
             m += 1
     return m, lost

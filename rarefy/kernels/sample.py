@@ -15,16 +15,17 @@ import numpy as np
 from numba import njit
 
 from rarefy.kernels.config import (
-    H_SPEED, H_VX, H_VY, H_VZ, JIT, PM_C, PM_C2, PM_VX, PM_VXX, PM_VXY, PM_VXZ, PM_VY, PM_VYY,
-    PM_VYZ, PM_VZ, PM_VZZ, PM_W, M_C2, M_C2VX, M_C2VY, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ,
+    H_SPEED, H_VX, H_VY, H_VZ, JIT, PM_C, PM_C2, PM_EROT, PM_VX, PM_VXX, PM_VXY, PM_VXZ, PM_VY, PM_VYY,
+    PM_VYZ, PM_VZ, PM_VZZ, PM_W, M_C2, M_C2VX, M_C2VY, M_EROT, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ,
     M_VZZ,
 )
 
 
 @njit(inline="always", **JIT)
-def add_cell_moments(lo, hi, vx, vy, vz, acc, c, weight):
+def add_cell_moments(lo, hi, vx, vy, vz, eint, acc, c, weight):
     """Add ``weight`` times the moments of particles lo..hi-1 (cell ``c``) to
-    ``acc[c, :N_MOMENTS]``."""
+    ``acc[c, :N_MOMENTS]``; the sums of the internal-energy rows ``eint`` (rotation,
+    vibration: as many as the gas has) go to M_EROT, M_EVIB."""
     s_n = 0.0
     s_x = s_y = s_z = 0.0
     s_xx = s_yy = s_zz = s_xy = s_xz = s_yz = 0.0
@@ -60,18 +61,23 @@ def add_cell_moments(lo, hi, vx, vy, vz, acc, c, weight):
     acc[c, M_C2VX] += weight * s_cx
     acc[c, M_C2VY] += weight * s_cy
     acc[c, M_C2] += weight * s_c2
+    for k in range(eint.shape[0]):
+        s_e = 0.0
+        for i in range(lo, hi):
+            s_e += eint[k, i]
+        acc[c, M_EROT + k] += weight * s_e
 
 
 @njit(**JIT)
-def sample_probes(box, cells, cell_start, nsub, key_start, cell_wt, x, y, vx, vy, vz, vmax,
-                  mom, hist, weight):
+def sample_probes(box, cells, cell_start, nsub, key_start, cell_wt, x, y, vx, vy, vz, eint,
+                  vmax, mom, hist, weight):
     """Add ``weight`` times the velocity sums and histograms of the particles inside each
     probe.
 
     ``box[q] = x0, x1, y0, y1`` is probe q's rectangle (m) and
     ``cells[cell_start[q]:cell_start[q + 1]]`` the cells it overlaps; a particle counts
     with its cell's weight factor ``cell_wt`` (radial weighting). ``mom[q]`` receives the
-    PM_* sums, ``hist[q, H_*, b]`` the speed histogram on [0, vmax) and the component
+    PM_* sums (PM_EROT, PM_EVIB from the rows of ``eint``), ``hist[q, H_*, b]`` the speed histogram on [0, vmax) and the component
     histograms on [-vmax, vmax), bin ``nb`` (the last) collecting what falls outside.
     """
     nb = hist.shape[2] - 1
@@ -106,6 +112,8 @@ def sample_probes(box, cells, cell_start, nsub, key_start, cell_wt, x, y, vx, vy
                 mom[q, PM_VYZ] += w * v * t
                 mom[q, PM_C] += w * s
                 mom[q, PM_C2] += w * c2
+                for k in range(eint.shape[0]):
+                    mom[q, PM_EROT + k] += w * eint[k, i]
                 b = int(s * inv_s)
                 hist[q, H_SPEED, b if b < nb else nb] += w
                 for h, comp in ((H_VX, u), (H_VY, v), (H_VZ, t)):

@@ -2,9 +2,14 @@
 
 With C = c - u the peculiar velocity (Bird 1994 sec. 1.4):
 n = <N> F_N / V;  u = <c>;  k T_i = m <C_i^2>;  T = (T_x + T_y + T_z)/3;  p = n k T;
-shear stress tau_xy = -rho <C_x C_y>;  heat flux q_i = (rho/2) <C^2 C_i>,
+shear stress tau_xy = -rho <C_x C_y>;  translational heat flux q_i = (rho/2) <C^2 C_i>,
 expanded in raw moments as <C^2 C_x> = <c^2 c_x> - u_x <c^2>
 - 2 (u_x <c_x c_x> + u_y <c_x c_y> + u_z <c_x c_z>) + 2 u_x u^2.
+
+Molecules with internal energy (Bird 1994 sec. 1.4 and ch. 5): T_rot = 2 <e_rot> / (zeta_r k); the vibrational mode of mean energy
+<e_vib> has T_vib = theta / ln(1 + k theta / <e_vib>) and zeta_v = 2 <e_vib> / (k T_vib);
+the overall temperature weights each by its degrees of freedom,
+T = (3 T_tr + zeta_r T_rot + zeta_v T_vib) / (3 + zeta_r + zeta_v).
 """
 
 from __future__ import annotations
@@ -13,10 +18,10 @@ import numpy as np
 
 from rarefy.constants import K_B
 from rarefy.kernels.config import (
-    M_C2, M_C2VX, M_C2VY, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ, M_VZZ,
+    M_C2, M_C2VX, M_C2VY, M_EROT, M_EVIB, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ, M_VZZ,
 )
 
-__all__ = ["FIELD_UNITS", "fields_from_moments"]
+__all__ = ["FIELD_UNITS", "INTERNAL_FIELDS", "fields_from_moments", "internal_temperatures"]
 
 FIELD_UNITS = {
     "number_density": "m^-3",
@@ -32,14 +37,22 @@ FIELD_UNITS = {
     "heat_flux_x": "W/m^2",
     "heat_flux_y": "W/m^2",
     "particles_per_cell": "1",
+    "temperature_rotational": "K",
+    "temperature_vibrational": "K",
+    "temperature_overall": "K",
 }
+# fields only gases with internal energy have (the vibrational one only with vibration on)
+INTERNAL_FIELDS = ("temperature_rotational", "temperature_vibrational", "temperature_overall")
 
 
 def fields_from_moments(sums: np.ndarray, nsteps: int, volume: np.ndarray, mass_kg: float,
-                        fnum: float) -> dict[str, np.ndarray]:
+                        fnum: float, rot_dof: int = 0,
+                        theta_vib_k: float = 0.0) -> dict[str, np.ndarray]:
     """Fields per cell from moment sums ``sums[ncell, N_MOMENTS]`` over ``nsteps`` steps.
 
-    Cells that held no particle get NaN velocities, temperatures and fluxes.
+    With ``rot_dof`` > 0 the rotational and overall temperatures are added, and with
+    ``theta_vib_k`` > 0 (vibration on) the vibrational one. Cells that held no particle
+    get NaN velocities, temperatures and fluxes.
     """
     cnt = sums[:, M_N]
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -59,7 +72,7 @@ def fields_from_moments(sums: np.ndarray, nsteps: int, volume: np.ndarray, mass_
             + 2.0 * ux * u2
         q3y = sums[:, M_C2VY] * inv - uy * c2 - 2.0 * (ux * cxy + uy * cyy + uz * cyz) \
             + 2.0 * uy * u2
-    return {
+    out = {
         "number_density": n,
         "velocity_x": ux,
         "velocity_y": uy,
@@ -74,3 +87,30 @@ def fields_from_moments(sums: np.ndarray, nsteps: int, volume: np.ndarray, mass_
         "heat_flux_y": 0.5 * rho * q3y,
         "particles_per_cell": cnt / nsteps,
     }
+    if rot_dof:
+        out.update(internal_temperatures(sums[:, M_EROT] * inv, sums[:, M_EVIB] * inv, t,
+                                         mass_kg, rot_dof, theta_vib_k))
+    return out
+
+
+def internal_temperatures(e_rot, e_vib, t_tr, mass_kg: float, rot_dof: int,
+                          theta_vib_k: float = 0.0) -> dict[str, np.ndarray]:
+    """Rotational, vibrational (when ``theta_vib_k`` > 0) and overall temperatures (K)
+    from the mean internal energies per unit mass (m^2/s^2) and T_tr (K)."""
+    from rarefy.gas.internal import vibrational_temperature
+
+    t_rot = 2.0 * mass_kg * np.asarray(e_rot) / (rot_dof * K_B)
+    out = {"temperature_rotational": t_rot}
+    heat = 3.0 * t_tr + rot_dof * t_rot
+    dof = 3.0 + rot_dof
+    if theta_vib_k > 0.0:
+        ev = mass_kg * np.asarray(e_vib)
+        t_vib = vibrational_temperature(ev, theta_vib_k)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            zeta_v = np.where(t_vib > 0.0, 2.0 * ev / (K_B * np.where(t_vib > 0, t_vib, 1.0)),
+                              0.0)
+        out["temperature_vibrational"] = t_vib
+        heat = heat + zeta_v * t_vib
+        dof = dof + zeta_v
+    out["temperature_overall"] = heat / dof
+    return out

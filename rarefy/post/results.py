@@ -20,7 +20,7 @@ from rarefy.gas.species import get_species
 from rarefy.io.result import ResultData
 from rarefy.post.uncertainty import batch_mean
 from rarefy.kernels.config import (
-    F_C2_POS, F_C_POS, F_N_NEG, F_N_POS, T_C2_IN, T_C2_OUT, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN,
+    F_C2_POS, F_C_POS, F_N_NEG, F_N_POS, T_C2_IN, T_C2_OUT, T_EI_IN, T_EI_OUT, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN,
     T_VT_OUT,
 )
 from rarefy.gas import kinetic
@@ -150,6 +150,8 @@ def surface_results(r: ResultData) -> dict:
         p = (t[:, T_VN_IN] + t[:, T_VN_OUT]) * scale
         tau = (t[:, T_VT_IN] - t[:, T_VT_OUT]) * scale
         q = 0.5 * (t[:, T_C2_IN] - t[:, T_C2_OUT]) * scale
+        if t.shape[1] > T_EI_OUT:   # internal energy given up to the surface
+            q = q + (t[:, T_EI_IN] - t[:, T_EI_OUT]) * scale
         hits = t[:, T_HITS] * fnum / (period * area)
         row = {"area_m2": area}
         for key, unit, v in (("pressure", "pa", p), ("shear_stress", "pa", tau),

@@ -26,7 +26,7 @@ from rarefy.geometry.cutcell import solid_area_per_cell
 from rarefy.kernels.collide import collide_cells, scatter
 from rarefy.kernels.config import (
     BND_PERIODIC, BND_REFLECT, N_FLUX_TALLY, N_SURF_TALLY, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX,
-    SIDE_YMIN, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, N_MOMENTS,
+    SIDE_YMIN, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN, T_VT_OUT, N_INTERNAL_PAR, N_MOMENTS,
 )
 from rarefy.kernels.index import counting_sort, counting_sort_par
 from rarefy.kernels.rng import step_key, stream
@@ -37,6 +37,8 @@ KEY = step_key(2024, 0, 1)   # a fixed key for the counter-based streams
 P_MIN = 1e-3        # KS acceptance for a correct distribution (fixed seed)
 P_WRONG = 1e-6      # KS p-value a wrong distribution must fall below
 AR = get_species("Ar")
+NOINT = np.zeros((0, 1))            # no internal-energy rows (monatomic)
+IP0 = np.zeros(N_INTERNAL_PAR)      # internal-energy parameters of a monatomic gas
 
 
 # ============================================================== collisions
@@ -59,7 +61,7 @@ def _moments_twin(vx, vy, vz):
     c2 = vx * vx + vy * vy + vz * vz
     return np.array([len(vx), vx.sum(), vy.sum(), vz.sum(), (vx * vx).sum(), (vy * vy).sum(),
                      (vz * vz).sum(), (vx * vy).sum(), (vx * vz).sum(), (vy * vz).sum(),
-                     (c2 * vx).sum(), (c2 * vy).sum(), c2.sum()])
+                     (c2 * vx).sum(), (c2 * vy).sum(), c2.sum(), 0.0, 0.0])
 
 
 def _totals(vx, vy, vz):
@@ -96,7 +98,8 @@ def test_collide_cells_conserves_momentum_and_energy(kind, alpha):
     moments = np.zeros((1, N_MOMENTS))
     pre = _moments_twin(vx, vy, vz)
     collide_cells(1, 2, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
-                  np.array([fnum]), dt, a_coef, exponent, alpha, KEY, moments, True, stats_)
+                  np.array([fnum]), dt, a_coef, exponent, alpha, NOINT, IP0, KEY, moments, True,
+                  stats_)
     p1, _, e1 = _totals(vx, vy, vz)
     # the fused sampling adds half the moments before and half after the collisions
     np.testing.assert_allclose(moments[0], 0.5 * (pre + _moments_twin(vx, vy, vz)),
@@ -128,7 +131,7 @@ def test_every_single_collision_conserves_and_keeps_relative_speed(alpha):
         fnum = 1.5 / (1e-30 * dt)   # 0.5 * 2 * 1 * fnum * sigcr_max * dt / V = 1.5
         st = np.zeros(3)
         collide_cells(1, 1, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
-                      np.array([fnum]), dt, a_coef, exponent, alpha,
+                      np.array([fnum]), dt, a_coef, exponent, alpha, NOINT, IP0,
                       step_key(7, step, 1), np.zeros((1, N_MOMENTS)), False, st)
         assert st[0] == 1.0 and st[2] == 1.0
         assert st[1] == pytest.approx(math.hypot(0.1, 0.1), rel=1e-12)
@@ -387,7 +390,8 @@ def _move(x, y, vx, vy, vz, dt, segs, pieces, piece_int, sampling=False, nudge=0
     ftally = np.zeros((0, N_FLUX_TALLY))
     planes = np.zeros((0, 4))
     free = np.zeros(NXM * NYM, dtype=np.uint8)   # no fast path: every flight is searched
-    removed = move_all(n, n, np.zeros(1), dt, x, y, vx, vy, vz, key, segs, seg_tally, BOX,
+    removed = move_all(n, n, np.zeros(1), dt, x, y, vx, vy, vz, NOINT, IP0, key, segs,
+                       seg_tally, BOX,
                        pieces, piece_int, planes, stally, ftally, sampling, nudge, NXM, NYM,
                        1.0 / NXM, 1.0 / NYM, 1, free, KEY)
     return removed, key, stally
@@ -564,8 +568,9 @@ def test_fast_path_never_skips_a_wall():
     ex, ey = seg[2] - seg[0], seg[3] - seg[1]
     side0 = np.sign(ex * (y[0] - seg[1]) - ey * (x[0] - seg[0]))
     key = np.zeros(1, dtype=np.int32)
-    move_all(1, 1, np.zeros(1), plan.time_step_s, x, y, vx, vy, vz, key, g.segs, g.seg_tally,
-             g.box, g.pieces, g.piece_int, g.planes, np.zeros((len(g.facet_owner), 7)),
+    move_all(1, 1, np.zeros(1), plan.time_step_s, x, y, vx, vy, vz, NOINT, IP0, key, g.segs,
+             g.seg_tally, g.box, g.pieces, g.piece_int, g.planes,
+             np.zeros((len(g.facet_owner), N_SURF_TALLY)),
              np.zeros((0, N_FLUX_TALLY)), False, 1e-12 * 20e-3, g.nx, g.ny, g.dx, g.dy,
              plan.subcells, g.free, KEY)
     side1 = np.sign(ex * (y[0] - seg[1]) - ey * (x[0] - seg[0]))

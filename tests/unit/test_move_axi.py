@@ -21,7 +21,7 @@ from scipy.optimize import brentq
 
 from rarefy.kernels.config import (
     BND_ABSORB, BND_PERIODIC, BND_REFLECT, N_FLUX_TALLY, N_SURF_TALLY, SIDE_XMAX, SIDE_XMIN,
-    SIDE_YMAX, SIDE_YMIN, T_HITS,
+    SIDE_YMAX, SIDE_YMIN, T_HITS, N_INTERNAL_PAR,
 )
 from rarefy.kernels.rng import step_key
 from rarefy.kernels.move_axi import move_all_axi, rotate_to, surface_hit
@@ -192,6 +192,8 @@ def test_rotate_to_keeps_speed_and_angular_momentum():
 # ============================================================== specular cans
 NUDGE = 1e-12
 KEY = step_key(2024, 0, 2)   # a fixed key for the per-particle streams
+NOINT = np.zeros((0, 1))     # no internal-energy rows (monatomic)
+IP0 = np.zeros(N_INTERNAL_PAR)
 
 
 def _move(x, r, vx, vr, vt, dt, segs, pieces, piece_int, box, nx, ny, free, weights=None,
@@ -206,7 +208,8 @@ def _move(x, r, vx, vr, vt, dt, segs, pieces, piece_int, box, nx, ny, free, weig
     if stally is None:
         stally = np.zeros((0, N_SURF_TALLY))
     row_weight = np.ones(ny) if weights is None else weights
-    m, lost = move_all_axi(n, n, np.zeros(1), dt, x, r, vx, vr, vt, key, segs, seg_tally, box,
+    m, lost = move_all_axi(n, n, np.zeros(1), dt, x, r, vx, vr, vt, NOINT, IP0, key, segs,
+                           seg_tally, box,
                            pieces, piece_int, np.zeros((0, 4)), stally,
                            np.zeros((0, N_FLUX_TALLY)), sampling, NUDGE, nx, ny,
                            (box[1] - box[0]) / nx, (box[3] - box[2]) / ny, 1, free,
@@ -340,7 +343,8 @@ def test_radial_weights_unbiased_in_one_step():
             b[:n] = a
             arrays.append(b)
         key = np.zeros(cap, dtype=np.int32)
-        m, lost = move_all_axi(n, n, np.zeros(1), 0.3, *arrays, key, np.zeros((0, 7)),
+        m, lost = move_all_axi(n, n, np.zeros(1), 0.3, *arrays, NOINT, IP0, key,
+                               np.zeros((0, 7)),
                                np.zeros((0, 2), dtype=np.int64), box, pieces, piece_int,
                                np.zeros((0, 4)), np.zeros((0, N_SURF_TALLY)),
                                np.zeros((0, N_FLUX_TALLY)), False, NUDGE, nx, ny, 1.0 / nx,

@@ -14,7 +14,7 @@ from rarefy.case import parse_case
 from rarefy.cli import execute
 from rarefy.io.result import FORMAT, ResultFormatError, read_result
 from rarefy.io.xdmf import write_xdmf
-from rarefy.post.fields import FIELD_UNITS
+from rarefy.post.fields import FIELD_UNITS, INTERNAL_FIELDS
 from rarefy.templates import orifice_case, slit_case
 
 GROUPS = ("case", "surfaces", "flux_planes", "probes", "histograms", "walls", "raw")
@@ -45,8 +45,10 @@ def test_xarray_opens_fields_on_coordinates_with_units(result):
         np.testing.assert_array_equal(ds["y"].values, f["y"][()])
         np.testing.assert_array_equal(ds["x"].values, r.x)
         assert ds["x"].attrs["units"] == ds["y"].attrs["units"] == "m"
-        assert set(FIELD_UNITS) <= set(ds.data_vars)
-        for name, unit in FIELD_UNITS.items():
+        assert set(FIELD_UNITS) - set(INTERNAL_FIELDS) <= set(ds.data_vars)
+        assert set(r.fields) <= set(FIELD_UNITS)
+        for name in r.fields:
+            unit = FIELD_UNITS[name]
             for var in (name, name + "_stderr"):
                 da = ds[var]
                 assert da.dims == ("y", "x"), var
@@ -138,7 +140,9 @@ def test_xdmf_references_exist_with_stated_dimensions(result):
         np.testing.assert_allclose(0.5 * (xn[1:] + xn[:-1]), r.x, rtol=0, atol=1e-15)
         np.testing.assert_allclose(0.5 * (yn[1:] + yn[:-1]), r.y, rtol=0, atol=1e-15)
     attributes = {a.get("Name"): a for a in grid.findall("Attribute")}
-    for name in FIELD_UNITS:
+    names = [n for n in FIELD_UNITS if n in attributes]
+    assert set(FIELD_UNITS) - set(INTERNAL_FIELDS) <= set(names)
+    for name in names:
         for var in (name, name + "_stderr"):
             a = attributes[var]
             assert a.get("Center") == "Cell" and a.get("AttributeType") == "Scalar"

@@ -1,0 +1,124 @@
+"""Internal energy of molecules: equilibrium values and relaxation rates (SI units).
+
+Rotation is classical, with ``rot_dof`` (zeta_r) degrees of freedom: mean energy
+(zeta_r / 2) k T. Vibration is one harmonic-oscillator mode of characteristic
+temperature theta (energy levels i k theta, i = 0, 1, ...): mean energy
+k theta / (exp(theta / T) - 1) and an effective number of degrees of freedom
+zeta_v = 2 (theta / T) / (exp(theta / T) - 1) (Bird 1994, sec. 5.5 and eq. 5.53).
+
+Relaxation follows the Jeans (Landau-Teller) equation dT_int/dt = (T_tr - T_int) / tau
+with tau = Z / nu, Z the collision number and nu the collision frequency of one molecule
+(Bird 1994, sec. 5.6). In a closed box the energy 3 T_tr + zeta_r T_rot is conserved,
+so T_tr - T_rot decays as exp(-(1 + zeta_r / 3) N_c / Z_rot), N_c the collisions per
+molecule (:func:`box_relaxation_rate`).
+
+Larsen-Borgnakke with per-molecule selection: a molecule chosen in a collision takes the
+fraction E_rot' / E_c ~ Beta(zeta_r / 2, 5/2 - omega) of the energy E_c = E_t + E_rot
+of the translational motion of the pair (VHS: E_t ~ Gamma(5/2 - omega) in collisions)
+and its own rotation. On average that moves its rotational energy a fraction
+(5 - 2 omega) / (5 - 2 omega + zeta_r) of the way to equilibrium with T_tr, so the
+selection probability that reproduces Z_rot is
+Lambda = (1 + zeta_r / (5 - 2 omega)) / Z_rot (:func:`selection_probability`; the same
+argument as Lumpkin, Haas & Boyd 1991, Phys. Fluids A 3, 2282, carried out for VHS
+molecules; the check is ``tests/validation/test_internal_energy.py``). The argument holds
+exactly when each relaxation starts from the pair's translational energy alone, so at
+most one molecule of a pair relaxes in a collision (double relaxation prohibited, as
+Haas et al. 1994, Phys. Fluids 6, 2191, propose; from memory): with both relaxing in
+turn the second sees what the first left, and the rate fell 5 % short at Z_rot = 5.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from rarefy.constants import K_B, N_A
+
+__all__ = [
+    "DEFAULT_ZROT",
+    "ATM_PA",
+    "parker_zrot",
+    "selection_probability",
+    "box_relaxation_rate",
+    "vibrational_energy",
+    "vibrational_temperature",
+    "vibrational_dof",
+    "millikan_white_p_tau",
+    "gamma_of_gas",
+]
+
+# Rotational collision number when a case gives none: the value commonly used in DSMC
+# for N2 and O2 near room temperature (common practice; Parker's formula gives 5.4 for
+# N2 at 300 K). H2 relaxes far more slowly (Z_rot of a few hundred at room temperature,
+# from memory): set it in the case.
+DEFAULT_ZROT = 5.0
+ATM_PA = 101325.0
+
+
+def parker_zrot(t_k, z_inf: float, t_star_k: float):
+    """Parker's (1959) rotational collision number
+    Z_rot(T) = Z_inf / (1 + (pi^(3/2) / 2) sqrt(T*/T) + (pi + pi^2 / 4) T*/T)."""
+    x = t_star_k / np.asarray(t_k, dtype=float)
+    return z_inf / (1.0 + 0.5 * math.pi ** 1.5 * np.sqrt(x) + (math.pi + math.pi ** 2 / 4.0) * x)
+
+
+def selection_probability(z: float, rot_dof: int, omega: float) -> float:
+    """Larsen-Borgnakke selection probability of one molecule per collision that gives
+    the rotational collision number ``z`` (module docstring); at most 1/2, as at most one
+    molecule of a pair relaxes in a collision."""
+    return min(0.5, (1.0 + rot_dof / (5.0 - 2.0 * omega)) / z)
+
+
+def box_relaxation_rate(z: float, rot_dof: int) -> float:
+    """Decay rate of T_tr - T_rot per collision of one molecule in a closed box,
+    (1 + zeta_r / 3) / Z_rot (Jeans equation with energy conservation)."""
+    return (1.0 + rot_dof / 3.0) / z
+
+
+def vibrational_energy(t_k, theta_k: float):
+    """Mean vibrational energy of a harmonic mode, k theta / (exp(theta/T) - 1), J."""
+    t = np.asarray(t_k, dtype=float)
+    with np.errstate(over="ignore", divide="ignore"):
+        return K_B * theta_k / np.expm1(theta_k / t)
+
+
+def vibrational_temperature(e_j, theta_k: float):
+    """Temperature of a harmonic mode of mean energy ``e_j`` (J):
+    theta / ln(1 + k theta / e); 0 for e = 0."""
+    e = np.asarray(e_j, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(e > 0.0, theta_k / np.log1p(K_B * theta_k / np.where(e > 0, e, 1.0)),
+                        0.0)
+
+
+def vibrational_dof(t_k, theta_k: float):
+    """Effective degrees of freedom of a harmonic mode, 2 (theta/T) / (exp(theta/T) - 1)."""
+    t = np.asarray(t_k, dtype=float)
+    x = theta_k / t
+    with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
+        return np.where(t > 0.0, 2.0 * x / np.expm1(x), 0.0)
+
+
+def millikan_white_p_tau(t_k, mass_kg: float, theta_k: float):
+    """Millikan & White (1963, J. Chem. Phys. 39, 3209) vibrational relaxation time times
+    pressure, Pa s: p tau = exp(A (T^(-1/3) - B) - 18.42) atm s with
+    A = 1.16e-3 mu^(1/2) theta^(4/3), B = 0.015 mu^(1/4), mu the reduced mass of the
+    pair in g/mol (here m/2, one species)."""
+    mu = 0.5 * mass_kg * N_A * 1e3
+    a = 1.16e-3 * math.sqrt(mu) * theta_k ** (4.0 / 3.0)
+    b = 0.015 * mu ** 0.25
+    t = np.asarray(t_k, dtype=float)
+    return np.exp(a * (t ** (-1.0 / 3.0) - b) - 18.42) * ATM_PA
+
+
+def gamma_of_gas(rot_dof: int, t_k=None, theta_k: float | None = None) -> float:
+    """Ratio of specific heats (5 + zeta) / (3 + zeta) with zeta the internal degrees of
+    freedom: rotation, plus the vibrational mode's effective dof at ``t_k`` when
+    ``theta_k`` is given. Frozen vibration (the default) leaves 7/5 for diatomics."""
+    zeta = float(rot_dof)
+    if theta_k is not None and t_k is not None:
+        # heat capacity of the mode, d(E_v)/d(kT) = (x/2 / sinh(x/2))^2, x = theta / T
+        x = theta_k / float(t_k)
+        zeta += 2.0 * (0.5 * x / math.sinh(0.5 * x)) ** 2 if x < 700 else 0.0
+    return (5.0 + zeta) / (3.0 + zeta)

@@ -1,0 +1,182 @@
+"""Internal energy of simulated molecules: Larsen-Borgnakke exchange in collisions and
+equilibrium sampling at walls and reservoirs.
+
+Energies are per unit mass (m^2/s^2), so that with kT/m = sigma^2 a wall or reservoir
+needs no mass. ``eint[0]`` holds each particle's rotational energy, ``eint[1]`` its
+vibrational energy (whole quanta of k theta / m); the parameters come in one array
+``ip`` indexed by ``IP_*`` (``rarefy.kernels.config``).
+
+Rotation (classical, zeta_r dof): the equilibrium energy is Gamma(zeta_r / 2) kT; in a
+collision a selected molecule takes the fraction Beta(zeta_r / 2, 5/2 - omega) of the
+energy E_c of the pair's relative motion plus its own rotation (Larsen & Borgnakke 1975;
+Bird 1994 sec. 5.4 and eqs. 5.44-5.46: the inverse for zeta_r = 2, else the
+acceptance-rejection of the beta density by its maximum). Vibration (one harmonic mode,
+quantized Larsen-Borgnakke, Bird 1994 sec. 5.5; Bergemann & Boyd 1994): the level i is
+drawn uniformly from 0..floor(E_c / k theta) and accepted with probability
+(1 - i k theta / E_c)^(3/2 - omega); the equilibrium level is geometric,
+floor(-ln(R) T / theta).
+"""
+
+import numpy as np
+from numba import njit
+
+from rarefy.kernels.config import (
+    IP_MW_A, IP_MW_B, IP_NU_P, IP_OMEGA, IP_ROT_DOF, IP_ROT_FACTOR, IP_ROT_MODE, IP_ROT_P,
+    IP_THETA, IP_TSTAR, IP_VIB_MODE, IP_VIB_P, IP_VIB_TH, IP_ZINF, JIT,
+)
+from rarefy.kernels.rng import normal, uniform
+
+ATM_PA = 101325.0
+
+
+@njit(inline="always", **JIT)
+def equilibrium_rot(s, dof, kt_m):
+    """(next counter, rotational energy per unit mass) drawn at kT/m = ``kt_m``:
+    Gamma(dof/2) kT/m for dof = 2 or 3."""
+    s, r = uniform(s)
+    e = -np.log(1.0 - r)
+    if dof == 3:
+        s, g = normal(s)
+        e += 0.5 * g * g
+    return s, e * kt_m
+
+
+@njit(inline="always", **JIT)
+def equilibrium_vib(s, th, kt_m):
+    """(next counter, vibrational energy per unit mass) of a harmonic mode of quantum
+    ``th`` = k theta / m at kT/m = ``kt_m``: whole quanta, geometric distribution."""
+    s, r = uniform(s)
+    return s, np.floor(-np.log(1.0 - r) * kt_m / th) * th
+
+
+@njit(inline="always", **JIT)
+def wall_internal(s, eint, i, diffuse, sigma, ip):
+    """Accommodate particle i's internal energy at a surface (full accommodation when
+    re-emitted diffusely, unchanged when reflected specularly, the Maxwell model).
+    Returns (next counter, energy per unit mass before, after)."""
+    dof = ip[IP_ROT_DOF]
+    if dof == 0.0:
+        return s, 0.0, 0.0
+    th = ip[IP_VIB_TH]
+    e0 = eint[0, i] + (eint[1, i] if th > 0.0 else 0.0)
+    if not diffuse:
+        return s, e0, e0
+    kt_m = sigma * sigma
+    s, er = equilibrium_rot(s, dof, kt_m)
+    eint[0, i] = er
+    if th > 0.0:
+        s, ev = equilibrium_vib(s, th, kt_m)
+        eint[1, i] = ev
+        er += ev
+    return s, e0, er
+
+
+@njit(**JIT)
+def inject_internal(eint, m, ip, kt_m):
+    """Equilibrium internal energy of a molecule entering from a reservoir at kT/m
+    ``kt_m`` (numba's seeded generator, as the rest of the inflow)."""
+    dof = ip[IP_ROT_DOF]
+    if dof == 0.0:
+        return
+    e = -np.log(1.0 - np.random.random())
+    if dof == 3.0:
+        g = np.random.standard_normal()
+        e += 0.5 * g * g
+    eint[0, m] = e * kt_m
+    th = ip[IP_VIB_TH]
+    if th > 0.0:
+        eint[1, m] = np.floor(-np.log(1.0 - np.random.random()) * kt_m / th) * th
+
+
+@njit(inline="always", **JIT)
+def beta_fraction(s, a, b):
+    """(next counter, x ~ Beta(a, b)) for a = 1 (inverse) or a, b > 1 (acceptance-
+    rejection against the density's maximum at (a - 1) / (a + b - 2))."""
+    if a == 1.0:
+        s, r = uniform(s)
+        return s, 1.0 - (1.0 - r) ** (1.0 / b)
+    xm = (a - 1.0) / (a + b - 2.0)
+    pmax = xm ** (a - 1.0) * (1.0 - xm) ** (b - 1.0)
+    while True:
+        s, x = uniform(s)
+        s, r = uniform(s)
+        if x ** (a - 1.0) * (1.0 - x) ** (b - 1.0) >= r * pmax:
+            return s, x
+
+
+@njit(inline="always", **JIT)
+def vib_level(s, ec, th, expo):
+    """(next counter, energy of the level drawn) for quantized Larsen-Borgnakke with
+    collision energy ``ec`` (per unit mass), quantum ``th`` and exponent 3/2 - omega."""
+    imax = int(ec / th)
+    if imax < 1:
+        return s, 0.0
+    while True:
+        s, r = uniform(s)
+        lev = int(r * (imax + 1))
+        if lev > imax:
+            lev = imax
+        s, r = uniform(s)
+        if (1.0 - lev * th / ec) ** expo >= r:
+            return s, lev * th
+
+
+@njit(inline="always", **JIT)
+def cell_probabilities(ip, t_cell):
+    """Selection probabilities (rotation, vibration) for a cell at translational
+    temperature ``t_cell`` (K): constants, Parker's Z_rot(T) or Millikan-White's Z_vib(T)
+    (``rarefy.gas.internal``)."""
+    prot = ip[IP_ROT_P]
+    pvib = ip[IP_VIB_P]
+    if t_cell > 0.0:
+        if ip[IP_ROT_MODE] == 1.0:
+            x = ip[IP_TSTAR] / t_cell
+            z = ip[IP_ZINF] / (1.0 + 0.5 * np.pi ** 1.5 * np.sqrt(x)
+                               + (np.pi + 0.25 * np.pi * np.pi) * x)
+            prot = min(0.5, ip[IP_ROT_FACTOR] / z)
+        if ip[IP_VIB_MODE] == 1.0:
+            p_tau = np.exp(ip[IP_MW_A] * (t_cell ** (-1.0 / 3.0) - ip[IP_MW_B]) - 18.42) * ATM_PA
+            zv = p_tau * ip[IP_NU_P] * t_cell ** (-ip[IP_OMEGA])
+            pvib = min(0.5, 1.0 / zv)
+    return prot, pvib
+
+
+@njit(inline="always", **JIT)
+def relax_vib(s, eint, i, et, ip):
+    """Quantized Larsen-Borgnakke for molecule i's vibration; returns (counter, new et)."""
+    th = ip[IP_VIB_TH]
+    ec = et + eint[1, i]
+    s, ev = vib_level(s, ec, th, 1.5 - ip[IP_OMEGA])
+    eint[1, i] = ev
+    return s, ec - ev
+
+
+@njit(inline="always", **JIT)
+def relax_rot(s, eint, i, et, ip):
+    """Larsen-Borgnakke for molecule i's rotation; returns (counter, new et)."""
+    ec = et + eint[0, i]
+    s, f = beta_fraction(s, 0.5 * ip[IP_ROT_DOF], 2.5 - ip[IP_OMEGA])
+    eint[0, i] = f * ec
+    return s, ec - eint[0, i]
+
+
+@njit(inline="always", **JIT)
+def exchange(s, eint, i, j, et, prot, pvib, ip):
+    """Larsen-Borgnakke exchange of the pair (i, j) with its relative translational
+    energy ``et`` (per unit mass of one molecule): vibration, then rotation. For each mode
+    molecule i relaxes with probability p, molecule j with probability p, never both (p
+    <= 1/2; double relaxation prohibited, as Haas et al. 1994 propose), so each relaxation
+    starts from the pair's own translational energy and the relaxation rate is exactly
+    2 p times the mean step of one relaxation. Returns (next counter, new et)."""
+    if ip[IP_VIB_TH] > 0.0:
+        s, r = uniform(s)
+        if r < pvib:
+            s, et = relax_vib(s, eint, i, et, ip)
+        elif r < 2.0 * pvib:
+            s, et = relax_vib(s, eint, j, et, ip)
+    s, r = uniform(s)
+    if r < prot:
+        s, et = relax_rot(s, eint, i, et, ip)
+    elif r < 2.0 * prot:
+        s, et = relax_rot(s, eint, j, et, ip)
+    return s, et
