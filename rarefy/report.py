@@ -13,6 +13,7 @@ removed.
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
 from pathlib import Path
@@ -49,6 +50,7 @@ def build_report(r: ResultData) -> dict:
         "reference_pressure_pa": p["reference_pressure_pa"],
         "reference_temperature_k": p["reference_temperature_k"],
         "mean_free_path_m": p["mean_free_path_m"],
+        "internal_energy": internal_line_of(p),
         "steps": r.attrs["steps"],
         "stop_reason": r.attrs.get("stop_reason", ""),
         "sample_start_step": r.attrs.get("sample_start_step"),
@@ -66,6 +68,14 @@ def build_report(r: ResultData) -> dict:
              "memory and were dropped: the density near the axis is biased low"]
             if r.attrs.get("lost_duplicates", 0) else []),
     }
+
+
+def internal_line_of(plan: dict) -> str:
+    """The plan's line on internal energy, from the plan as stored in a result."""
+    from rarefy.plan import Plan, internal_line
+
+    names = {f.name for f in dataclasses.fields(Plan)}
+    return internal_line(Plan(**{k: v for k, v in plan.items() if k in names}))
 
 
 def case_overrides(r: ResultData) -> dict:
@@ -97,6 +107,8 @@ def format_report(rep: dict) -> str:
         f"  reference: {rep['reference_pressure_pa']:.4g} Pa, "
         f"{rep['reference_temperature_k']:.4g} K, mean free path "
         f"{rep['mean_free_path_m'] * 1e3:.4g} mm",
+        *([f"  internal energy: {rep['internal_energy']}"] if rep.get("internal_energy")
+          else []),
         f"  Knudsen number {rep['knudsen_number']:.4g} (L = "
         f"{rep['characteristic_length_m'] * 1e3:.4g} mm), rarefaction parameter delta "
         f"{rep['rarefaction_parameter']:.4g}",
@@ -167,6 +179,12 @@ def format_report(rep: dict) -> str:
             + "; perpendicular "
             + _pm(pr["temperature_perpendicular_k"], pr["temperature_perpendicular_stderr_k"],
                   "K"),
+            *(["  internal temperatures    " + "; ".join(
+                f"{label} " + _pm(pr[f"temperature_{key}_k"],
+                                  pr[f"temperature_{key}_stderr_k"], "K")
+                for key, label in (("rotational", "rotational"),
+                                   ("vibrational", "vibrational"), ("overall", "overall"))
+                if f"temperature_{key}_k" in pr)] if "temperature_rotational_k" in pr else []),
             "  speed ratio              " + _pm(pr["speed_ratio"], pr["speed_ratio_stderr"], "")
             + " (drift / sqrt(2 k T_par / m))",
             "  speeds: most probable    "

@@ -95,8 +95,8 @@ class Species:
     theta_vib_k : float or None
         Characteristic vibrational temperature of the one vibrational mode rarefy
         models (diatomic molecules), K; None where the molecule has several modes.
-    internal_source : str
-        Citation of ``parker`` and ``theta_vib_k``.
+    internal_source : tuple of str
+        Citations of ``parker`` and ``theta_vib_k``.
     """
 
     name: str
@@ -112,7 +112,7 @@ class Species:
     source: str
     parker: tuple[float, float] | None = None
     theta_vib_k: float | None = None
-    internal_source: str = ""
+    internal_source: tuple[str, ...] = ()
 
     @property
     def has_vss(self) -> bool:
@@ -172,14 +172,14 @@ def _sp(name, long_name, m27, mu5, omega, d10, alpha, dvss10, rot_dof, parker=No
         mu_ref_pa_s=mu5 * 1e-5, omega=omega, d_vhs_m=d10 * 1e-10,
         alpha=alpha, d_vss_m=None if dvss10 is None else dvss10 * 1e-10,
         t_ref_k=273.0, rot_dof=rot_dof, source=source, parker=parker,
-        theta_vib_k=theta_vib, internal_source="; ".join(cited))
+        theta_vib_k=theta_vib, internal_source=tuple(cited))
 
 
 PARKER_CONSTANTS = (
     "Parker 1959, Phys. Fluids 2, 449, constants Z_inf and T* as used in DSMC by Boyd "
     "1990, Phys. Fluids A 2, 447 (values from memory)")
 THETA_VIB = ("Bird 1994, Appendix A, Table A5, characteristic vibrational temperatures "
-             "(from memory; they equal hc omega_e / k of Herzberg's spectroscopic constants)")
+             "(from memory, as hc omega_e / k of Herzberg's spectroscopic constants)")
 IAPWS_H2O = (
     "VHS fit (omega 1.0, 250-400 K, max. deviation 1.9 %) to the dilute-gas viscosity of "
     "the IAPWS 2008 formulation, Huber et al. 2009, J. Phys. Chem. Ref. Data 38, 101, "

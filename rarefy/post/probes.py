@@ -33,10 +33,11 @@ from rarefy.post.results import upstream_downstream
 from rarefy.theory import effusion
 from rarefy.io.result import ResultData, read_result
 from rarefy.kernels.config import (
-    F_HIST, H_SPEED, H_VX, H_VY, H_VZ, PM_C, PM_C2, PM_VX, PM_VXX, PM_VY, PM_VYY, PM_VZ,
+    F_HIST, H_SPEED, H_VX, H_VY, H_VZ, PM_C, PM_C2, PM_EROT, PM_EVIB, PM_VX, PM_VXX, PM_VY, PM_VYY, PM_VZ,
     PM_VZZ, PM_W,
 )
 from rarefy.theory.maxwell import drifting_speed_pdf
+from rarefy.post.fields import internal_temperatures
 from rarefy.post.fit import BinnedFit, drifting_speed_cdf, fit_binned
 from rarefy.post.speed_distribution import SpeedDistribution
 
@@ -47,8 +48,11 @@ COMPONENTS = (("x", H_VX), ("y", H_VY), ("z", H_VZ))
 
 
 def probe_batch_values(mom: np.ndarray, mass_kg: float, volume_m3: float, fnum: float,
-                       steps_per_batch: int, direction: str = "x") -> dict[str, np.ndarray]:
-    """Probe quantities per batch from the summed moments ``mom[batch, PM_*]`` (SI)."""
+                       steps_per_batch: int, direction: str = "x", rot_dof: int = 0,
+                       theta_vib_k: float = 0.0) -> dict[str, np.ndarray]:
+    """Probe quantities per batch from the summed moments ``mom[batch, PM_*]`` (SI); with
+    ``rot_dof`` > 0 also the rotational, (vibration on) vibrational and overall
+    temperatures (``rarefy.post.fields.internal_temperatures``)."""
     w = mom[:, PM_W]
     with np.errstate(invalid="ignore", divide="ignore"):
         mean = {c: mom[:, col] / w for c, col in (("x", PM_VX), ("y", PM_VY), ("z", PM_VZ))}
@@ -60,7 +64,7 @@ def probe_batch_values(mom: np.ndarray, mass_kg: float, volume_m3: float, fnum: 
         t_par = mass_kg * (sq[direction] - ue ** 2) / K_B
         t_all = mass_kg * (c2 - u2) / (3.0 * K_B)
         t_perp = (3.0 * t_all - t_par) / 2.0
-        return {
+        out = {
             "number_density_m3": w * fnum / (volume_m3 * steps_per_batch),
             "velocity_x_m_s": mean["x"], "velocity_y_m_s": mean["y"],
             "velocity_z_m_s": mean["z"],
@@ -71,6 +75,11 @@ def probe_batch_values(mom: np.ndarray, mass_kg: float, volume_m3: float, fnum: 
             "mean_speed_m_s": c1,
             "rms_speed_m_s": np.sqrt(c2),
         }
+        if rot_dof and mom.shape[1] > PM_EVIB:
+            temps = internal_temperatures(mom[:, PM_EROT] / w, mom[:, PM_EVIB] / w, t_all,
+                                          mass_kg, rot_dof, theta_vib_k)
+            out.update({k + "_k": v for k, v in temps.items()})
+        return out
 
 
 def stderr_key(key: str) -> str:
@@ -186,13 +195,14 @@ def probe_results(r: ResultData, case=None) -> dict:
                "region_m": [float(v) for v in r.probe_box[q]], "direction": direction}
         mom = r.probe_mom[:, q]
         tot = mom.sum(axis=0, keepdims=True)
+        inner = (r.plan.get("rot_dof", 0), r.plan.get("theta_vib_k", 0.0))
         whole = probe_batch_values(tot, mass, r.probe_volume[q], fnum,
-                                   r.steps_per_batch * r.batches, direction)
+                                   r.steps_per_batch * r.batches, direction, *inner)
         # jackknife over the batches: ratios of sums stay stable where a batch holds few
         # molecules (Efron & Tibshirani 1993, ch. 11)
         nb = mom.shape[0]
         leave_out = probe_batch_values(tot - mom, mass, r.probe_volume[q], fnum,
-                                       r.steps_per_batch * (nb - 1), direction) \
+                                       r.steps_per_batch * (nb - 1), direction, *inner) \
             if nb >= 2 else None
         for key in whole:
             row[key] = float(whole[key][0])

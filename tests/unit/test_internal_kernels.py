@@ -1,0 +1,155 @@
+"""Internal-energy kernels: Larsen-Borgnakke distributions, equilibrium sampling,
+collision-number formulas and conservation, against scipy's reference distributions and
+exact sums."""
+
+import math
+
+import numpy as np
+import pytest
+from numba import njit
+from scipy import stats
+
+from rarefy.constants import K_B
+from rarefy.gas import internal, kinetic
+from rarefy.gas.species import get_species
+from rarefy.kernels.collide import collide_cells
+from rarefy.kernels.config import (
+    IP_M_OVER_K, IP_OMEGA, IP_ROT_DOF, IP_ROT_FACTOR, IP_ROT_MODE, IP_ROT_P, IP_TSTAR,
+    IP_VIB_P, IP_VIB_TH, IP_ZINF, N_INTERNAL_PAR, N_MOMENTS,
+)
+from rarefy.kernels.internal import (
+    beta_fraction, cell_probabilities, equilibrium_rot, equilibrium_vib, vib_level,
+)
+from rarefy.kernels.rng import step_key, stream
+
+P_MIN = 1e-3        # KS acceptance for a correct distribution (fixed seed)
+P_WRONG = 1e-6      # KS p-value a wrong distribution must fall below
+KEY = step_key(99, 0, 1)
+N2 = get_species("N2")
+
+
+@njit
+def _draw2(func, n, a, b):
+    s = stream(KEY, 0)
+    out = np.empty(n)
+    for k in range(n):
+        s, out[k] = func(s, a, b)
+    return out
+
+
+@njit
+def _draw3(func, n, a, b, c):
+    s = stream(KEY, 0)
+    out = np.empty(n)
+    for k in range(n):
+        s, out[k] = func(s, a, b, c)
+    return out
+
+
+def _draws(func, n, *args):
+    """n draws from one stream (the counter passed on inside compiled code, as in the
+    kernels)."""
+    args = [float(a) for a in args]
+    return (_draw2 if len(args) == 2 else _draw3)(func, n, *args)
+
+
+@pytest.mark.parametrize("a, b", [(1.0, 1.76), (1.5, 1.66), (1.5, 1.5)])
+def test_larsen_borgnakke_fraction_is_beta(a, b):
+    # Bird 1994 eq. 5.44-5.46 (M): E_rot'/E_c ~ Beta(zeta/2, 5/2 - omega); scipy.stats.beta
+    x = _draws(beta_fraction, 20000, a, b)
+    assert stats.kstest(x, stats.beta(a, b).cdf).pvalue > P_MIN
+    assert stats.kstest(x, stats.beta(a, b + 0.15).cdf).pvalue < P_WRONG   # power
+
+
+def test_equilibrium_rotational_energy_is_gamma():
+    # classical rotor with zeta dof: E / kT ~ Gamma(zeta/2) (Bird 1994 sec. 5.4, M)
+    for dof in (2, 3):
+        e = _draws(equilibrium_rot, 20000, dof, 1.0)
+        assert stats.kstest(e, stats.gamma(0.5 * dof).cdf).pvalue > P_MIN
+        assert stats.kstest(e, stats.gamma(0.5 * dof, scale=1.05).cdf).pvalue < P_WRONG
+
+
+def test_equilibrium_vibrational_levels_are_boltzmann():
+    # harmonic levels i with P(i) ~ exp(-i theta / T) (Bird 1994 sec. 5.5, M); theta/T = 0.8
+    th, kt = 1.0, 1.25
+    e = _draws(equilibrium_vib, 40000, th, kt)
+    levels = np.rint(e / th).astype(int)
+    assert np.all(np.abs(e - levels * th) == 0.0)
+    kmax = 8
+    obs = np.bincount(np.minimum(levels, kmax), minlength=kmax + 1)
+    q = math.exp(-th / kt)
+    p = (1 - q) * q ** np.arange(kmax + 1.0)
+    p[-1] = q ** kmax
+    assert stats.chisquare(obs, p * len(levels)).pvalue > P_MIN
+    mean = e.mean() / th
+    assert mean == pytest.approx(1.0 / math.expm1(th / kt), rel=4 * e.std() / th
+                                 / math.sqrt(len(e)) / mean)
+
+
+def test_quantized_larsen_borgnakke_levels():
+    # Bird 1994 sec. 5.5 (M): P(i) ~ (1 - i k theta / E_c)^(3/2 - omega), i <= E_c / k theta
+    ec, th, expo = 5.5, 1.0, 0.76
+    e = _draws(vib_level, 40000, ec, th, expo)
+    lev = np.rint(e / th).astype(int)
+    w = (1.0 - np.arange(6) * th / ec) ** expo
+    obs = np.bincount(lev, minlength=6)
+    assert len(obs) == 6
+    assert stats.chisquare(obs, w / w.sum() * len(lev)).pvalue > P_MIN
+    w_wrong = (1.0 - np.arange(6) * th / ec) ** (expo + 0.5)
+    assert stats.chisquare(obs, w_wrong / w_wrong.sum() * len(lev)).pvalue < P_WRONG
+
+
+def test_parker_collision_number_in_the_kernel():
+    # Parker 1959 (M): Z = Z_inf / (1 + (pi^1.5/2) sqrt(T*/T) + (pi + pi^2/4) T*/T); the
+    # kernel's per-cell probability must be (1 + zeta/(5 - 2 omega)) / Z(T)
+    ip = np.zeros(N_INTERNAL_PAR)
+    ip[IP_ROT_DOF], ip[IP_ROT_MODE] = 2.0, 1.0
+    ip[IP_ZINF], ip[IP_TSTAR] = N2.parker
+    ip[IP_ROT_FACTOR] = 1.0 + 2.0 / (5.0 - 2.0 * N2.omega)
+    for t in (150.0, 300.0, 1000.0, 5000.0):
+        z = float(internal.parker_zrot(t, *N2.parker))
+        zb = 23.0 / (1 + math.pi ** 1.5 / 2 * math.sqrt(91.5 / t)
+                     + (math.pi + math.pi ** 2 / 4) * 91.5 / t)
+        assert z == pytest.approx(zb, rel=1e-14)
+        prot, _ = cell_probabilities(ip, t)
+        assert prot == pytest.approx(internal.selection_probability(z, 2, N2.omega), rel=1e-12)
+    assert float(internal.parker_zrot(300.0, *N2.parker)) == pytest.approx(5.41, abs=0.01)
+    # Z_rot grows towards Z_inf at high temperature
+    zs = internal.parker_zrot(np.array([100.0, 300.0, 1e3, 1e4, 1e8]), *N2.parker)
+    assert np.all(np.diff(zs) > 0) and zs[-1] == pytest.approx(23.0, rel=0.01)
+
+
+def test_collisions_conserve_total_energy_with_internal_modes():
+    # exact: Larsen-Borgnakke moves energy between translation and the internal modes
+    # of the pair, conserving momentum and total energy (Bird 1994 ch. 5, M)
+    rng = np.random.default_rng(3)
+    n = 200
+    sig = math.sqrt(K_B * 3000.0 / N2.mass_kg)
+    vx, vy, vz = (sig * rng.standard_normal(n) + u for u in (100.0, -30.0, 5.0))
+    th = K_B * N2.theta_vib_k / N2.mass_kg
+    eint = np.vstack([rng.gamma(1.0, sig * sig, n), np.floor(rng.exponential(0.8, n)) * th])
+    ip = np.zeros(N_INTERNAL_PAR)
+    ip[IP_ROT_DOF], ip[IP_ROT_P], ip[IP_VIB_TH], ip[IP_VIB_P] = 2.0, 0.4, th, 0.3
+    ip[IP_OMEGA], ip[IP_M_OVER_K] = N2.omega, N2.mass_kg / K_B
+    model = N2.model("vhs")
+    a_coef = kinetic.sigma_cr_coefficient(model)
+    exponent = 2.0 - 2.0 * model.omega
+    sigcr = np.array([a_coef * (6.0 * sig) ** exponent])
+    dt = 1e-6
+    fnum = 3000.0 / (0.5 * n * (n - 1) * sigcr[0] * dt)
+    p0 = np.array([vx.sum(), vy.sum(), vz.sum()])
+    e0 = math.fsum(0.5 * (vx * vx + vy * vy + vz * vz)) + math.fsum(eint.ravel())
+    r0 = eint.copy()
+    st = np.zeros(3)
+    collide_cells(1, 1, np.array([0, n], dtype=np.int64), rng.random(n), rng.random(n),
+                  vx, vy, vz, np.array([1.0]), sigcr, np.zeros(1), np.array([fnum]), dt,
+                  a_coef, exponent, model.alpha, eint, ip, KEY, np.zeros((1, N_MOMENTS)),
+                  False, st)
+    e1 = math.fsum(0.5 * (vx * vx + vy * vy + vz * vz)) + math.fsum(eint.ravel())
+    assert st[0] > 1000
+    assert np.abs(np.array([vx.sum(), vy.sum(), vz.sum()]) - p0).max() < 1e-9 * n * sig
+    assert abs(e1 - e0) < 1e-12 * e0
+    assert np.count_nonzero(eint[0] != r0[0]) > 0.9 * n      # rotation exchanged
+    assert np.count_nonzero(eint[1] != r0[1]) > 0.3 * n      # vibration exchanged
+    assert np.all(eint >= 0.0)
+    assert np.allclose(eint[1] / th, np.rint(eint[1] / th), atol=1e-9)   # whole quanta
