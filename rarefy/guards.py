@@ -41,6 +41,7 @@ __all__ = [
     "MAX_COLLISIONAL_DT_OVER_TAU",
     "STORE_HEADROOM",
     "SORT_BYTES_PER_PARTICLE",
+    "bytes_per_particle",
     "GuardError",
     "check_plan",
     "default_memory_budget",
@@ -51,23 +52,30 @@ __all__ = [
 
 # Particle state in rarefy.engine.particles.ParticleStore: 5 float64 (x, y, vx, vy, vz)
 # in two buffers (the sorted copy is written into the second, then they swap), plus an
-# int32 sort key: (5 * 8) * 2 + 4 = 84 bytes per particle.
+# int32 sort key: (5 * 8) * 2 + 4 = 84 bytes per particle of a monatomic gas; each
+# internal-energy row (rotation, vibration) adds 16 (:func:`bytes_per_particle`).
 BYTES_PER_PARTICLE = 5 * 8 * 2 + 4
 # The store grows by at least 1.25 x when it must (rarefy.engine.particles), so it may
 # hold up to 1.25 x the particles it carries.
 STORE_HEADROOM = 1.25
-# Per-cell arrays of the engine: two sampling rows of 13 float64 moments, the
-# maximum sigma*c_r, the collision remainder and the cell flags, about 30 float64.
-BYTES_PER_CELL = 30 * 8
+# Per-cell arrays of the engine: two sampling rows of 17 float64 moments, the
+# maximum sigma*c_r, the collision remainder and the cell flags, about 38 float64.
+BYTES_PER_CELL = 38 * 8
 # Sort keys: one int64 start index per collision sub-cell.
 BYTES_PER_SUBCELL = 8
 # During the sort: per-chunk counts, at most two int64 per particle
 # (rarefy.kernels.index).
 SORT_BYTES_PER_PARTICLE = 16
 # Tallies kept per sampling batch: per flux plane 6 sums and two histograms of
-# bins + 1, per probe 12 moments and four histograms of bins + 1, per surface facet
-# 7 sums; float64 each.
-FLUX_TALLY, PROBE_TALLY, FACET_TALLY = 6, 12, 7
+# bins + 1, per probe 14 moments and four histograms of bins + 1, per surface facet
+# 9 sums; float64 each.
+FLUX_TALLY, PROBE_TALLY, FACET_TALLY = 6, 14, 9
+
+
+def bytes_per_particle(plan: Plan) -> int:
+    """Bytes a particle slot takes for the plan's gas: 84, plus 16 for rotation and 16
+    more with vibration."""
+    return BYTES_PER_PARTICLE + 16 * ((1 + int(plan.vibration)) if plan.rot_dof else 0)
 
 # Throughput assumed for the wall-time estimate: 5e6 particle-steps per second, a
 # conservative figure for this engine on one core of an ordinary laptop (move,
@@ -146,7 +154,7 @@ def estimate_memory_bytes(case: Case, plan: Plan) -> dict[str, float]:
 
     ``particles``: ``plan.expected_particles`` (the whole domain at the densest gas the
     case supplies, reservoir or initial fill, so the upstream fill is included) x
-    :data:`STORE_HEADROOM` x :data:`BYTES_PER_PARTICLE`; ``grid``: per-cell arrays and
+    :data:`STORE_HEADROOM` x :func:`bytes_per_particle`; ``grid``: per-cell arrays and
     the sub-cell sort keys; ``batches``: the per-batch tallies of flux planes, probes
     and surfaces.
     """
@@ -155,7 +163,8 @@ def estimate_memory_bytes(case: Case, plan: Plan) -> dict[str, float]:
                        + len(case.probes) * (PROBE_TALLY + 4 * bins)
                        + _facets(case, plan) * FACET_TALLY + 4)
     return {
-        "particles": float(plan.expected_particles) * (STORE_HEADROOM * BYTES_PER_PARTICLE
+        "particles": float(plan.expected_particles) * (STORE_HEADROOM
+                                                       * bytes_per_particle(plan)
                                                        + SORT_BYTES_PER_PARTICLE),
         "grid": float(plan.ncell) * (BYTES_PER_CELL + BYTES_PER_SUBCELL * plan.subcells ** 2),
         "batches": per_batch * plan.batches,
@@ -266,7 +275,7 @@ def check_plan(case: Case, plan: Plan, *, memory_budget_bytes: float | None = No
             key = _particle_key(case)
             raise GuardError(path, key,
                              f"about {plan.expected_particles:.3g} particles would need about "
-                             f"{_gib(total)} of memory ({BYTES_PER_PARTICLE} bytes each, "
+                             f"{_gib(total)} of memory ({bytes_per_particle(plan)} bytes each, "
                              f"x{STORE_HEADROOM:g} reserved, {SORT_BYTES_PER_PARTICLE} more while "
                              f"sorting), more than the budget of "
                              f"{_gib(budget)}; use fewer particles: {_PARTICLE_KEYS}")

@@ -4,11 +4,11 @@ Rotation is classical, with ``rot_dof`` (zeta_r) degrees of freedom: mean energy
 (zeta_r / 2) k T. Vibration is one harmonic-oscillator mode of characteristic
 temperature theta (energy levels i k theta, i = 0, 1, ...): mean energy
 k theta / (exp(theta / T) - 1) and an effective number of degrees of freedom
-zeta_v = 2 (theta / T) / (exp(theta / T) - 1) (Bird 1994, sec. 5.5 and eq. 5.53).
+zeta_v = 2 (theta / T) / (exp(theta / T) - 1) (Bird 1994, ch. 5; textbook statistical mechanics).
 
 Relaxation follows the Jeans (Landau-Teller) equation dT_int/dt = (T_tr - T_int) / tau
 with tau = Z / nu, Z the collision number and nu the collision frequency of one molecule
-(Bird 1994, sec. 5.6). In a closed box the energy 3 T_tr + zeta_r T_rot is conserved,
+(Bird 1994, ch. 5; Jeans 1904, from memory). In a closed box the energy 3 T_tr + zeta_r T_rot is conserved,
 so T_tr - T_rot decays as exp(-(1 + zeta_r / 3) N_c / Z_rot), N_c the collisions per
 molecule (:func:`box_relaxation_rate`).
 

@@ -83,8 +83,8 @@ FIELD_LONG_NAMES = {
     "temperature_z": "translational temperature from the z velocity component",
     "pressure": "pressure (n k T)",
     "shear_stress_xy": "shear stress, xy component",
-    "heat_flux_x": "heat flux of the translational energy, x component",
-    "heat_flux_y": "heat flux of the translational energy, y component",
+    "heat_flux_x": "heat flux (translational and internal energy), x component",
+    "heat_flux_y": "heat flux (translational and internal energy), y component",
     "particles_per_cell": "mean number of simulated particles per cell",
     "temperature_rotational": "rotational temperature",
     "temperature_vibrational": "vibrational temperature (harmonic mode)",
@@ -94,7 +94,8 @@ FIELD_LONG_NAMES = {
 MOMENT_COLUMNS = ("count (1), sum vx (m/s), sum vy (m/s), sum vz (m/s), sum vx^2 (m^2/s^2), "
                   "sum vy^2, sum vz^2, sum vx vy, sum vx vz, sum vy vz, sum c^2 vx "
                   "(m^3/s^3), sum c^2 vy, sum c^2 (m^2/s^2), sum of rotational energy per "
-                  "unit mass (m^2/s^2), sum of vibrational energy per unit mass")
+                  "unit mass (m^2/s^2), sum of vibrational energy per unit mass, sums of the "
+                  "internal energy per unit mass times vx and times vy (m^3/s^3)")
 SURFACE_COLUMNS = ("hits (1), sum of incident normal speed (m/s), sum of reflected normal "
                    "speed, sum of incident tangential velocity (m/s), sum of reflected "
                    "tangential velocity, sum of incident c^2 (m^2/s^2), sum of reflected c^2, "

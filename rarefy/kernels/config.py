@@ -65,10 +65,10 @@ N_PROBE_MOMENTS = 14
 H_SPEED, H_VX, H_VY, H_VZ = range(4)
 
 # Columns of the cell moment sums; M_EROT, M_EVIB: internal energies per unit mass
-# (m^2/s^2).
+# (m^2/s^2); M_EVX, M_EVY: their total times vx, vy (m^3/s^3), for the heat flux.
 (M_N, M_VX, M_VY, M_VZ, M_VXX, M_VYY, M_VZZ, M_VXY, M_VXZ, M_VYZ,
- M_C2VX, M_C2VY, M_C2, M_EROT, M_EVIB) = range(15)
-N_MOMENTS = 15
+ M_C2VX, M_C2VY, M_C2, M_EROT, M_EVIB, M_EVX, M_EVY) = range(17)
+N_MOMENTS = 17
 
 # Internal-energy parameters handed to the kernels (one float64 array, ``internal``):
 # rotational dof (0: none), Z_rot mode (0 constant, 1 Parker), selection probability

@@ -9,9 +9,9 @@ vibrational energy (whole quanta of k theta / m); the parameters come in one arr
 Rotation (classical, zeta_r dof): the equilibrium energy is Gamma(zeta_r / 2) kT; in a
 collision a selected molecule takes the fraction Beta(zeta_r / 2, 5/2 - omega) of the
 energy E_c of the pair's relative motion plus its own rotation (Larsen & Borgnakke 1975;
-Bird 1994 sec. 5.4 and eqs. 5.44-5.46: the inverse for zeta_r = 2, else the
+Bird 1994 ch. 5, from memory: the inverse for zeta_r = 2, else the
 acceptance-rejection of the beta density by its maximum). Vibration (one harmonic mode,
-quantized Larsen-Borgnakke, Bird 1994 sec. 5.5; Bergemann & Boyd 1994): the level i is
+quantized Larsen-Borgnakke, Bird 1994 ch. 5; Bergemann & Boyd 1994): the level i is
 drawn uniformly from 0..floor(E_c / k theta) and accepted with probability
 (1 - i k theta / E_c)^(3/2 - omega); the equilibrium level is geometric,
 floor(-ln(R) T / theta).

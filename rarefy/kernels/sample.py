@@ -16,7 +16,7 @@ from numba import njit
 
 from rarefy.kernels.config import (
     H_SPEED, H_VX, H_VY, H_VZ, JIT, PM_C, PM_C2, PM_EROT, PM_VX, PM_VXX, PM_VXY, PM_VXZ, PM_VY, PM_VYY,
-    PM_VYZ, PM_VZ, PM_VZZ, PM_W, M_C2, M_C2VX, M_C2VY, M_EROT, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ,
+    PM_VYZ, PM_VZ, PM_VZZ, PM_W, M_C2, M_C2VX, M_C2VY, M_EROT, M_EVIB, M_EVX, M_EVY, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ,
     M_VZZ,
 )
 
@@ -25,7 +25,8 @@ from rarefy.kernels.config import (
 def add_cell_moments(lo, hi, vx, vy, vz, eint, acc, c, weight):
     """Add ``weight`` times the moments of particles lo..hi-1 (cell ``c``) to
     ``acc[c, :N_MOMENTS]``; the sums of the internal-energy rows ``eint`` (rotation,
-    vibration: as many as the gas has) go to M_EROT, M_EVIB."""
+    vibration: as many as the gas has) go to M_EROT, M_EVIB, their total times vx, vy to
+    M_EVX, M_EVY."""
     s_n = 0.0
     s_x = s_y = s_z = 0.0
     s_xx = s_yy = s_zz = s_xy = s_xz = s_yz = 0.0
@@ -61,11 +62,21 @@ def add_cell_moments(lo, hi, vx, vy, vz, eint, acc, c, weight):
     acc[c, M_C2VX] += weight * s_cx
     acc[c, M_C2VY] += weight * s_cy
     acc[c, M_C2] += weight * s_c2
-    for k in range(eint.shape[0]):
-        s_e = 0.0
+    ne = eint.shape[0]
+    if ne > 0:
+        s_r = s_v = s_ex = s_ey = 0.0
         for i in range(lo, hi):
-            s_e += eint[k, i]
-        acc[c, M_EROT + k] += weight * s_e
+            e = eint[0, i]
+            s_r += e
+            if ne > 1:
+                s_v += eint[1, i]
+                e += eint[1, i]
+            s_ex += e * vx[i]
+            s_ey += e * vy[i]
+        acc[c, M_EROT] += weight * s_r
+        acc[c, M_EVIB] += weight * s_v
+        acc[c, M_EVX] += weight * s_ex
+        acc[c, M_EVY] += weight * s_ey
 
 
 @njit(**JIT)

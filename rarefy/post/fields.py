@@ -2,7 +2,8 @@
 
 With C = c - u the peculiar velocity (Bird 1994 sec. 1.4):
 n = <N> F_N / V;  u = <c>;  k T_i = m <C_i^2>;  T = (T_x + T_y + T_z)/3;  p = n k T;
-shear stress tau_xy = -rho <C_x C_y>;  translational heat flux q_i = (rho/2) <C^2 C_i>,
+shear stress tau_xy = -rho <C_x C_y>;  heat flux q_i = (rho/2) <C^2 C_i> + rho <e C_i>
+(e the internal energy per unit mass; <e C_i> = <e c_i> - <e> u_i),
 expanded in raw moments as <C^2 C_x> = <c^2 c_x> - u_x <c^2>
 - 2 (u_x <c_x c_x> + u_y <c_x c_y> + u_z <c_x c_z>) + 2 u_x u^2.
 
@@ -18,7 +19,7 @@ import numpy as np
 
 from rarefy.constants import K_B
 from rarefy.kernels.config import (
-    M_C2, M_C2VX, M_C2VY, M_EROT, M_EVIB, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ, M_VZZ,
+    M_C2, M_C2VX, M_C2VY, M_EROT, M_EVIB, M_EVX, M_EVY, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ, M_VZZ,
 )
 
 __all__ = ["FIELD_UNITS", "INTERNAL_FIELDS", "fields_from_moments", "internal_temperatures"]
@@ -72,6 +73,9 @@ def fields_from_moments(sums: np.ndarray, nsteps: int, volume: np.ndarray, mass_
             + 2.0 * ux * u2
         q3y = sums[:, M_C2VY] * inv - uy * c2 - 2.0 * (ux * cxy + uy * cyy + uz * cyz) \
             + 2.0 * uy * u2
+        e_int = (sums[:, M_EROT] + sums[:, M_EVIB]) * inv
+        qix = sums[:, M_EVX] * inv - e_int * ux     # 0 for a monatomic gas
+        qiy = sums[:, M_EVY] * inv - e_int * uy
     out = {
         "number_density": n,
         "velocity_x": ux,
@@ -83,8 +87,8 @@ def fields_from_moments(sums: np.ndarray, nsteps: int, volume: np.ndarray, mass_
         "temperature_z": tz,
         "pressure": n * K_B * t,
         "shear_stress_xy": -rho * (cxy - ux * uy),
-        "heat_flux_x": 0.5 * rho * q3x,
-        "heat_flux_y": 0.5 * rho * q3y,
+        "heat_flux_x": rho * (0.5 * q3x + qix),
+        "heat_flux_y": rho * (0.5 * q3y + qiy),
         "particles_per_cell": cnt / nsteps,
     }
     if rot_dof:

@@ -77,7 +77,9 @@ def flux_plane_results(r: ResultData, case: Case) -> dict:
     fnum = r.attrs["particle_weight"]
     period = r.steps_per_batch * r.attrs["time_step_s"]
     p0, t0, p1 = upstream_downstream(case)
-    gamma = (5.0 + sp.rot_dof) / (3.0 + sp.rot_dof)
+    # the plan's gamma counts rotation and, when switched on, vibration at the reference
+    # temperature (rarefy.gas.internal.gamma_of_gas)
+    gamma = r.plan.get("gamma", (5.0 + sp.rot_dof) / (3.0 + sp.rot_dof))
     out = {}
     for k, name in enumerate(r.plane_names):
         factor = 2.0 if r.plane_mirrored[k] else 1.0

@@ -322,6 +322,39 @@ def test_gas_errors():
     assert case.gas.species == "air" and case.gas.model == "hs"
 
 
+def _gas(lines: str) -> str:
+    return MINIMAL.replace('species = "Ar"', lines)
+
+
+def test_internal_energy_keys():
+    g = parse_case(_gas('species = "N2"')).gas
+    assert (g.rotation, g.vibration, g.vibration_number, g.rotation_set) == \
+        (5.0, False, None, False)
+    g = parse_case(_gas('species = "n2"\nrotation = "Parker"\nvibration = true')).gas
+    assert (g.rotation, g.vibration, g.vibration_number) == ("parker", True, "millikan-white")
+    g = parse_case(_gas('species = "O2"\nrotation = 12\nvibration = true\n'
+                        'vibration_number = 300.5')).gas
+    assert (g.rotation, g.vibration_number, g.rotation_set) == (12.0, 300.5, True)
+    assert parse_case(_gas('species = "Ar"')).gas.rotation is None
+
+
+def test_internal_energy_errors():
+    expect_error(_gas('species = "Ar"\nrotation = 5'), "gas.rotation", "monatomic")
+    expect_error(_gas('species = "He"\nvibration = false'), "gas.vibration", "monatomic")
+    expect_error(_gas('species = "CO2"\nrotation = "parker"'), "gas.rotation",
+                 "published constants", "number >= 1")
+    for bad in ("0.5", "true", '"fast"', "[5]", "1e13"):
+        expect_error(_gas(f'species = "N2"\nrotation = {bad}'), "gas.rotation",
+                     'number from 1 to 1e12 or "parker"')
+    expect_error(_gas('species = "CO2"\nvibration = true'), "gas.vibration",
+                 "H2, N2, O2", "allowed: false")
+    expect_error(_gas('species = "N2"\nvibration = "yes"'), "gas.vibration", "true or false")
+    expect_error(_gas('species = "N2"\nvibration_number = 20'), "gas.vibration_number",
+                 "vibration = true")
+    expect_error(_gas('species = "N2"\nvibration = true\nvibration_number = 0'),
+                 "gas.vibration_number", '"millikan-white"')
+
+
 # --------------------------------------------------------------------------- domain
 
 @pytest.mark.parametrize(

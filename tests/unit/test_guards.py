@@ -12,6 +12,7 @@ from rarefy.case import CaseError, RunControl, parse_case
 from rarefy.guards import (
     ASSUMED_PARTICLE_STEPS_PER_S,
     BYTES_PER_PARTICLE,
+    bytes_per_particle,
     MAX_CELLS,
     MAX_STEPS,
     STORE_HEADROOM,
@@ -89,6 +90,20 @@ def test_particle_state_is_84_bytes():
     assert parts["particles"] == pytest.approx(plan.expected_particles
                                                * (STORE_HEADROOM * 84 + 16))
     assert parts["grid"] > 0 and parts["batches"] > 0
+
+
+def test_molecules_pay_for_their_internal_energy_rows():
+    # the guard's bytes per particle equal what the store allocates (two float64 buffers
+    # of 5 + internal rows, and an int32 key): 84 Ar, 100 N2, 116 N2 with vibration
+    from rarefy.engine.internal_params import internal_rows
+    from rarefy.engine.particles import NVAR, ParticleStore
+    for gas, extra, expected in (("Ar", {}, 84), ("N2", {}, 100),
+                                 ("N2", {"gas.vibration": True}, 116)):
+        case = parse_case(slit_case(gas=gas), "slit.toml", overrides=extra or None)
+        plan = make_plan(case)
+        store = ParticleStore(1000, NVAR + internal_rows(plan))
+        slot = (store.state.nbytes + store.spare.nbytes + store.key.nbytes) / 1000
+        assert bytes_per_particle(plan) == slot == expected, gas
 
 
 def test_memory_guard_names_the_particle_keys():

@@ -55,14 +55,14 @@ def _draws(func, n, *args):
 
 @pytest.mark.parametrize("a, b", [(1.0, 1.76), (1.5, 1.66), (1.5, 1.5)])
 def test_larsen_borgnakke_fraction_is_beta(a, b):
-    # Bird 1994 eq. 5.44-5.46 (M): E_rot'/E_c ~ Beta(zeta/2, 5/2 - omega); scipy.stats.beta
+    # Bird 1994 ch. 5 (M): E_rot'/E_c ~ Beta(zeta/2, 5/2 - omega); scipy.stats.beta
     x = _draws(beta_fraction, 20000, a, b)
     assert stats.kstest(x, stats.beta(a, b).cdf).pvalue > P_MIN
     assert stats.kstest(x, stats.beta(a, b + 0.15).cdf).pvalue < P_WRONG   # power
 
 
 def test_equilibrium_rotational_energy_is_gamma():
-    # classical rotor with zeta dof: E / kT ~ Gamma(zeta/2) (Bird 1994 sec. 5.4, M)
+    # classical rotor with zeta dof: E / kT ~ Gamma(zeta/2) (Bird 1994 ch. 5, M)
     for dof in (2, 3):
         e = _draws(equilibrium_rot, 20000, dof, 1.0)
         assert stats.kstest(e, stats.gamma(0.5 * dof).cdf).pvalue > P_MIN
@@ -70,7 +70,7 @@ def test_equilibrium_rotational_energy_is_gamma():
 
 
 def test_equilibrium_vibrational_levels_are_boltzmann():
-    # harmonic levels i with P(i) ~ exp(-i theta / T) (Bird 1994 sec. 5.5, M); theta/T = 0.8
+    # harmonic levels i with P(i) ~ exp(-i theta / T) (Bird 1994 ch. 5, M); theta/T = 0.8
     th, kt = 1.0, 1.25
     e = _draws(equilibrium_vib, 40000, th, kt)
     levels = np.rint(e / th).astype(int)
@@ -87,7 +87,7 @@ def test_equilibrium_vibrational_levels_are_boltzmann():
 
 
 def test_quantized_larsen_borgnakke_levels():
-    # Bird 1994 sec. 5.5 (M): P(i) ~ (1 - i k theta / E_c)^(3/2 - omega), i <= E_c / k theta
+    # Bird 1994 ch. 5 (M): P(i) ~ (1 - i k theta / E_c)^(3/2 - omega), i <= E_c / k theta
     ec, th, expo = 5.5, 1.0, 0.76
     e = _draws(vib_level, 40000, ec, th, expo)
     lev = np.rint(e / th).astype(int)

@@ -61,7 +61,7 @@ def _moments_twin(vx, vy, vz):
     c2 = vx * vx + vy * vy + vz * vz
     return np.array([len(vx), vx.sum(), vy.sum(), vz.sum(), (vx * vx).sum(), (vy * vy).sum(),
                      (vz * vz).sum(), (vx * vy).sum(), (vx * vz).sum(), (vy * vz).sum(),
-                     (c2 * vx).sum(), (c2 * vy).sum(), c2.sum(), 0.0, 0.0])
+                     (c2 * vx).sum(), (c2 * vy).sum(), c2.sum(), 0.0, 0.0, 0.0, 0.0])
 
 
 def _totals(vx, vy, vz):

@@ -21,6 +21,7 @@ from rarefy.engine.particles import EROT, EVIB, VX, VZ
 from rarefy.engine.simulation import Simulation
 from rarefy.gas import internal, kinetic
 from rarefy.gas.species import get_species
+from rarefy.io.result import read_result
 from rarefy.plan import make_plan
 from rarefy.report import load_report
 
@@ -84,7 +85,7 @@ def relax_rotation(text: str, seed: int, steps: int, particles: int = 100_000):
 @pytest.mark.parametrize("species, z, steps", [("N2", 5.0, 160), ("CH4", 10.0, 220)])
 def test_rotational_relaxation_rate_and_equipartition(species, z, steps):
     # Jeans equation dT_rot/dt = (T_tr - T_rot) nu / Z_rot with Z_rot the (continuum)
-    # collision number (Bird 1994 sec. 5.6, M); in a closed box 3 T_tr + zeta T_rot is
+    # collision number (Bird 1994 ch. 5, M); in a closed box 3 T_tr + zeta T_rot is
     # conserved, so T_tr - T_rot ~ exp(-(1 + zeta/3) N_c / Z_rot) per collision N_c of one
     # molecule, and the final state is T_tr = T_rot = 3 T0 / (3 + zeta) (S). Four
     # replicas give the standard errors. CH4 (zeta 3) exercises the beta rejection.
@@ -123,8 +124,8 @@ def test_without_the_selection_correction_the_rate_would_be_wrong():
 
 
 def test_vibrational_equipartition():
-    # a harmonic mode in equilibrium holds k theta / (exp(theta/T) - 1) (Bird 1994 eq.
-    # 5.53, M); N2 at 4000 K with its vibration emptied relaxes to the temperature that
+    # a harmonic mode in equilibrium holds k theta / (exp(theta/T) - 1) (textbook
+    # statistical mechanics; Bird 1994 ch. 5, M); N2 at 4000 K with its vibration emptied relaxes to the temperature that
     # conserves (5/2) k T + E_v(T) (S). Quantized Larsen-Borgnakke must reach it with
     # T_vib = T_rot = T_tr.
     theta = get_species("N2").theta_vib_k
@@ -206,8 +207,41 @@ def test_free_molecular_heat_flux_carries_internal_energy(tmp_path, species):
         print(f"{species} plates, {side}: q / q_fm = {ratio:.4f} +- {se:.4f}")
         assert se < 0.006, "run too short for the check to fail"
         ratios.append((ratio, se))
+    # the heat-flux field in the gas (translational + internal energy) carries the same
+    r = read_result(tmp_path)
+    gas = r.volume > 0
+    q_ref = ((2.0 + 0.5 * sp.rot_dof) * 0.5 * (surf["boundary ymin"]["pressure_pa"]
+                                               + surf["boundary ymax"]["pressure_pa"])
+             * math.sqrt(2.0 * K_B / (math.pi * sp.mass_kg)) * 100.0
+             / (math.sqrt(250.0) + math.sqrt(350.0)))
+    q_bulk = -np.mean(r.fields["heat_flux_y"][gas]) / q_ref
+    se_bulk = np.sqrt(np.sum(r.stderr["heat_flux_y"][gas] ** 2)) / gas.sum() / q_ref
+    print(f"{species} plates, gas: q / q_fm = {q_bulk:.4f} +- {se_bulk:.4f}")
+    ratios.append((q_bulk, se_bulk))
     for ratio, se in ratios:
         # 2 %: the collisions left at Kn 500 and the pressure's own noise
         assert abs(ratio - 1.0) < min(0.02, 4.0 * se + 0.005), ratio
     # power: the monatomic formula is off by zeta/4 = 50 % (N2) or 75 % (CH4)
     assert all(abs(r * (4.0 + sp.rot_dof) / 4.0 - 1.0) > 0.3 for r, _ in ratios)
+
+
+def test_resumed_run_repeats_internal_energies_bit_for_bit():
+    # a checkpoint carries the internal-energy rows: a run resumed at a segment start
+    # repeats the uninterrupted run exactly (the engine's reproducibility rule)
+    text = box_text("N2", 'rotation = "parker"\nvibration = true\nvibration_number = 3',
+                    temperature_k=3000.0)
+    whole = box_sim(text, 20_000, 9)
+    for _ in range(150):
+        whole.step(False)
+    first = box_sim(text, 20_000, 9)
+    for _ in range(100):
+        first.step(False)
+    snap = first.snapshot()
+    resumed = box_sim(text, 20_000, 9)
+    resumed.restore(snap)
+    for _ in range(50):
+        resumed.step(False)
+    a, b = whole.store, resumed.store
+    assert a.n == b.n and a.state.shape[0] == b.state.shape[0] == 7
+    np.testing.assert_array_equal(a.state[:, :a.n], b.state[:, :b.n])
+    assert np.any(a.state[EVIB, :a.n] > 0.0)
