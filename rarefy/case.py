@@ -322,7 +322,9 @@ def parse_case(
     applied = []
     for key, value in (overrides or {}).items():
         case_schema.apply_override(raw, key, value, path)
-        applied.append((key, value if isinstance(value, str) else repr(value)))
+        applied.append((key, value if isinstance(value, str) else
+                        ("true" if value else "false") if isinstance(value, bool)
+                        else repr(value)))
     fields = case_schema.build_case(raw, path)
     return Case(**fields, source_path=path, source_text=text, overrides=tuple(applied))
 

@@ -80,6 +80,7 @@ class Plan:
     rotation: str = ""               # "constant" or "parker" ("" for a monatomic gas)
     rot_collision_number: float = 0.0   # Z_rot (at the reference temperature for Parker)
     rot_selection_probability: float = 0.0  # Larsen-Borgnakke, per molecule and collision
+    rot_floor_temperature_k: float = 0.0  # Parker's Z_rot reaches the exchange's floor here
     vibration: bool = False
     theta_vib_k: float = 0.0
     vib_collision_number: float = 0.0   # Z_vib at the reference temperature
@@ -113,6 +114,12 @@ class Plan:
                        "Borgnakke exchange can reach for "
                        f"{self.gas}: one molecule of every pair relaxes in every collision, "
                        "so rotation relaxes more slowly than Z_rot says")
+        floor = self.rot_floor_temperature_k
+        if self.rotation == "parker" and floor > 0.5 * self.reference_temperature_k:
+            out.append(f"below {floor:.3g} K Parker's Z_rot for {self.gas} is smaller than "
+                       "Larsen-Borgnakke exchange can reach (one molecule of a pair per "
+                       "collision): colder gas relaxes its rotation more slowly than "
+                       "Parker's formula says")
         if self.gas == "H2" and self.chosen.get("rotation") == "auto":
             out.append("H2 relaxes its rotation in hundreds of collisions near room "
                        f"temperature, not the default Z_rot = {self.rot_collision_number:g};"
@@ -361,14 +368,17 @@ def _internal(case: Case, sp, model, t_ref: float, chosen: dict) -> dict:
     if not sp.rot_dof:
         return {"rot_dof": 0}
     chosen["rotation"] = "case" if g.rotation_set else "auto"
+    floor = 0.0
     if g.rotation == "parker":
         z = float(internal.parker_zrot(t_ref, *sp.parker))
+        floor = internal.parker_floor_temperature(sp.parker, sp.rot_dof, model.omega)
     else:
         z = float(g.rotation)
     out = {"rot_dof": sp.rot_dof, "rotation": "parker" if g.rotation == "parker" else
            "constant", "rot_collision_number": z,
            "rot_selection_probability": internal.selection_probability(z, sp.rot_dof,
                                                                         model.omega),
+           "rot_floor_temperature_k": floor,
            "gamma": internal.gamma_of_gas(sp.rot_dof)}
     if g.vibration:
         out.update(vibration=True, theta_vib_k=sp.theta_vib_k,

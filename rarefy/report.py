@@ -74,6 +74,8 @@ def internal_line_of(plan: dict) -> str:
     """The plan's line on internal energy, from the plan as stored in a result."""
     from rarefy.plan import Plan, internal_line
 
+    if plan.get("rot_dof") and "rotation" not in plan:
+        return "rotation not exchanged (a result of an older rarefy)"
     names = {f.name for f in dataclasses.fields(Plan)}
     return internal_line(Plan(**{k: v for k, v in plan.items() if k in names}))
 

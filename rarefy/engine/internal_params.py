@@ -12,7 +12,7 @@ from rarefy.gas import internal
 from rarefy.gas.species import MolecularModel, Species
 from rarefy.kernels.config import (
     IP_M_OVER_K, IP_MW_A, IP_MW_B, IP_NU_P, IP_OMEGA, IP_ROT_DOF, IP_ROT_FACTOR, IP_ROT_MODE,
-    IP_ROT_P, IP_THETA, IP_TSTAR, IP_VIB_MODE, IP_VIB_P, IP_VIB_TH, IP_ZINF, N_INTERNAL_PAR,
+    IP_ROT_P, IP_THETA, IP_TSTAR, IP_VIB_FACTOR, IP_VIB_MODE, IP_VIB_P, IP_VIB_TH, IP_ZINF, N_INTERNAL_PAR,
 )
 from rarefy.plan import Plan
 
@@ -47,6 +47,7 @@ def kernel_parameters(plan: Plan, model: MolecularModel, sp: Species,
         theta = plan.theta_vib_k
         ip[IP_THETA] = theta
         ip[IP_VIB_TH] = K_B * theta / model.mass_kg
+        ip[IP_VIB_FACTOR] = 1.0 + 2.0 / (5.0 - 2.0 * model.omega)
         if vibration_number == "millikan-white":
             mu = 0.5 * model.mass_kg * N_A * 1e3
             ip[IP_VIB_MODE] = 1.0
@@ -56,5 +57,6 @@ def kernel_parameters(plan: Plan, model: MolecularModel, sp: Species,
                            * math.sqrt(math.pi * K_B * model.t_ref_k / model.mass_kg)
                            * model.t_ref_k ** (model.omega - 1.0) / K_B)
         else:
-            ip[IP_VIB_P] = 1.0 / float(vibration_number)
+            ip[IP_VIB_P] = internal.vib_selection_probability(float(vibration_number),
+                                                              model.omega)
     return ip

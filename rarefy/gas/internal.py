@@ -40,6 +40,9 @@ __all__ = [
     "ATM_PA",
     "parker_zrot",
     "selection_probability",
+    "parker_floor_temperature",
+    "vib_selection_probability",
+    "vib_box_relaxation_rate",
     "box_relaxation_rate",
     "vibrational_energy",
     "vibrational_temperature",
@@ -68,6 +71,40 @@ def selection_probability(z: float, rot_dof: int, omega: float) -> float:
     the rotational collision number ``z`` (module docstring); at most 1/2, as at most one
     molecule of a pair relaxes in a collision."""
     return min(0.5, (1.0 + rot_dof / (5.0 - 2.0 * omega)) / z)
+
+
+def parker_floor_temperature(parker: tuple[float, float], rot_dof: int,
+                             omega: float) -> float:
+    """Temperature (K) below which Parker's Z_rot falls under the smallest collision number
+    the exchange reaches, 2 (1 + zeta_r / (5 - 2 omega)) (selection probability 1/2);
+    0 if it never does."""
+    from scipy.optimize import brentq
+
+    z_min = 2.0 * (1.0 + rot_dof / (5.0 - 2.0 * omega))
+    f = lambda t: float(parker_zrot(t, *parker)) - z_min  # noqa: E731
+    if f(1e-3) >= 0.0:
+        return 0.0
+    return float(brentq(f, 1e-3, 1e7))
+
+
+def vib_selection_probability(z: float, omega: float) -> float:
+    """Selection probability for the vibrational mode that gives the collision number
+    ``z``: the rotational rule with the mode's high-temperature 2 degrees of freedom,
+    (1 + 2 / (5 - 2 omega)) / Z_vib, at most 1/2. The quantized exchange moves the mean
+    vibrational energy 0.64-0.73 of the way to equilibrium per selection (0.64, the
+    classical value for N2, when T >> theta; more when T < theta), so below theta the
+    relaxation runs up to about 14 % faster than Z_vib says."""
+    return min(0.5, (1.0 + 2.0 / (5.0 - 2.0 * omega)) / z)
+
+
+def vib_box_relaxation_rate(z: float, t_k: float, theta_k: float) -> float:
+    """Decay rate, per collision of one molecule, of E_v(T_tr) - E_v in a closed box of a
+    diatomic gas with rotation in equilibrium with translation: energy conservation
+    (5/2) k dT = -dE_v gives (1 + (2/5) c_v / k) / Z_vib, with c_v the heat capacity of
+    the mode at ``t_k``."""
+    x = theta_k / t_k
+    c_v = (0.5 * x / math.sinh(0.5 * x)) ** 2
+    return (1.0 + 0.4 * c_v) / z
 
 
 def box_relaxation_rate(z: float, rot_dof: int) -> float:

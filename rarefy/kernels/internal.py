@@ -22,7 +22,7 @@ from numba import njit
 
 from rarefy.kernels.config import (
     IP_MW_A, IP_MW_B, IP_NU_P, IP_OMEGA, IP_ROT_DOF, IP_ROT_FACTOR, IP_ROT_MODE, IP_ROT_P,
-    IP_THETA, IP_TSTAR, IP_VIB_MODE, IP_VIB_P, IP_VIB_TH, IP_ZINF, JIT,
+    IP_THETA, IP_TSTAR, IP_VIB_FACTOR, IP_VIB_MODE, IP_VIB_P, IP_VIB_TH, IP_ZINF, JIT,
 )
 from rarefy.kernels.rng import normal, uniform
 
@@ -137,7 +137,7 @@ def cell_probabilities(ip, t_cell):
         if ip[IP_VIB_MODE] == 1.0:
             p_tau = np.exp(ip[IP_MW_A] * (t_cell ** (-1.0 / 3.0) - ip[IP_MW_B]) - 18.42) * ATM_PA
             zv = p_tau * ip[IP_NU_P] * t_cell ** (-ip[IP_OMEGA])
-            pvib = min(0.5, 1.0 / zv)
+            pvib = min(0.5, ip[IP_VIB_FACTOR] / zv)
     return prot, pvib
 
 

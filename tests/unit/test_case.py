@@ -770,3 +770,27 @@ def test_override_ambiguous_piece():
 def test_override_new_side_key_is_checked():
     expect_error(MINIMAL, "boundaries.xmax.pressure", 'kind = "vacuum"',
                  overrides={"boundaries.xmax.pressure": "1 Pa"})
+
+
+def test_boolean_overrides_are_recorded_as_toml():
+    # the report re-reads the case with the recorded overrides: they must parse again
+    case = parse_case(_gas('species = "N2"'), overrides={"gas.vibration": True})
+    assert ("gas.vibration", "true") in case.overrides
+    again = parse_case(case.source_text, overrides=dict(case.overrides))
+    assert again.gas.vibration is True
+
+
+def test_plan_states_internal_energy_and_warns_below_parkers_floor():
+    from rarefy.plan import format_plan, make_plan
+    from rarefy.report import internal_line_of
+
+    plan = make_plan(parse_case(_gas('species = "O2"\nrotation = "parker"')))
+    assert plan.gamma == pytest.approx(1.4) and plan.rotation == "parker"
+    assert plan.rot_floor_temperature_k == pytest.approx(265.0, abs=1.0)
+    assert any("below 265 K Parker's Z_rot" in w for w in plan.warnings())
+    assert "Z_rot 3.41 at 300 K (Parker's formula)" in format_plan(plan)
+    mono = make_plan(parse_case(MINIMAL))
+    assert "none (monatomic), gamma 5/3" in format_plan(mono)
+    # a result written before internal energy was simulated says so
+    old = {k: v for k, v in plan.to_dict().items() if k not in ("rotation",)}
+    assert "older rarefy" in internal_line_of(old)

@@ -19,6 +19,7 @@ from rarefy.kernels.config import (
 )
 from rarefy.kernels.internal import (
     beta_fraction, cell_probabilities, equilibrium_rot, equilibrium_vib, vib_level,
+    wall_internal,
 )
 from rarefy.kernels.rng import step_key, stream
 
@@ -153,3 +154,75 @@ def test_collisions_conserve_total_energy_with_internal_modes():
     assert np.count_nonzero(eint[1] != r0[1]) > 0.3 * n      # vibration exchanged
     assert np.all(eint >= 0.0)
     assert np.allclose(eint[1] / th, np.rint(eint[1] / th), atol=1e-9)   # whole quanta
+
+
+def test_millikan_white_in_the_kernel_matches_the_plan():
+    # Millikan & White 1963 (M): p tau = exp(A (T^-1/3 - B) - 18.42) atm s; Z_vib =
+    # p tau nu / p with nu from Bird 1994 eq. 4.64 (M). The kernel's per-cell probability
+    # must equal the plan's (1 + 2/(5 - 2 omega)) / Z_vib at the same temperature.
+    from rarefy.case import parse_case
+    from rarefy.engine.internal_params import kernel_parameters
+    from rarefy.plan import make_plan, vib_collision_number
+    from rarefy.templates import box_case
+
+    for gas in ("N2", "O2", "H2"):
+        case = parse_case(box_case(gas=gas, temperature_k=2000.0, pressure_pa=100.0),
+                          "box.toml", overrides={"gas.vibration": True})
+        plan = make_plan(case)
+        sp = get_species(gas)
+        model = sp.model(case.gas.model)
+        ip = kernel_parameters(plan, model, sp, case.gas.vibration_number)
+        for t in (800.0, 2000.0, 6000.0):
+            z = vib_collision_number(case.gas, model, t, sp.theta_vib_k)
+            _, pvib = cell_probabilities(ip, t)
+            assert pvib == pytest.approx(internal.vib_selection_probability(z, sp.omega),
+                                         rel=1e-9), (gas, t)
+    # N2 at 2000 K: A = 220, B = 0.0290 (reduced mass 14.0 g/mol): p tau = 3.4e-4 atm s
+    # from the correlation's own numbers (S)
+    p_tau = internal.millikan_white_p_tau(2000.0, N2.mass_kg, N2.theta_vib_k)
+    a = 1.16e-3 * math.sqrt(14.0) * 3371.0 ** (4 / 3)
+    assert p_tau / internal.ATM_PA == pytest.approx(
+        math.exp(a * (2000.0 ** (-1 / 3) - 0.015 * 14.0 ** 0.25) - 18.42), rel=2e-3)
+
+
+def test_specular_reflection_keeps_and_diffuse_reemission_resets_internal_energy():
+    # Maxwell model (Bird 1994 ch. 5 and sec. 12.3, M): specular reflection keeps the
+    # molecule's internal state; diffuse re-emission gives it the wall's equilibrium
+    ip = np.zeros(N_INTERNAL_PAR)
+    ip[IP_ROT_DOF], ip[IP_VIB_TH] = 2.0, 1.0
+    eint = np.array([[7.0], [3.0]])
+    out = _wall_draws(eint, False, 2.0, ip, 3)
+    assert np.all(out[0] == 10.0) and np.all(out[1] == 10.0)
+    assert eint[0, 0] == 7.0 and eint[1, 0] == 3.0
+    out = _wall_draws(eint, True, 2.0, ip, 4000)
+    assert np.all(out[0] == 10.0) and np.all(out[1] == out[2] + out[3])
+    # kT/m = sigma^2 = 4: rotation Exp(mean 4), vibration whole quanta of mean
+    # 1/(exp(1/4) - 1) = 3.52 (S)
+    assert stats.kstest(out[2], stats.expon(scale=4.0).cdf).pvalue > P_MIN
+    assert out[3].mean() == pytest.approx(1.0 / math.expm1(0.25), rel=0.05)
+    assert np.all(out[3] == np.rint(out[3]))
+
+
+@njit
+def _wall_draws(eint, diffuse, sigma, ip, n):
+    """n surface interactions of molecule 0 (energies restored before each): rows e_in,
+    e_out, rotation after, vibration after."""
+    out = np.empty((4, n))
+    r0, v0 = eint[0, 0], eint[1, 0]
+    for k in range(n):
+        eint[0, 0], eint[1, 0] = r0, v0
+        _, e0, e1 = wall_internal(stream(KEY, k), eint, 0, diffuse, sigma, ip)
+        out[0, k], out[1, k], out[2, k], out[3, k] = e0, e1, eint[0, 0], eint[1, 0]
+    eint[0, 0], eint[1, 0] = r0, v0
+    return out
+
+
+def test_parker_floor_temperature():
+    # Parker's Z_rot for N2 falls below the exchange's floor 2 (1 + 2/(5 - 2 omega)) =
+    # 3.14 near 129 K, for O2 (floor 3.16) near 265 K (S, from the formula)
+    for gas, t_expected in (("N2", 129.0), ("O2", 265.0)):
+        sp = get_species(gas)
+        t = internal.parker_floor_temperature(sp.parker, 2, sp.omega)
+        assert t == pytest.approx(t_expected, abs=1.0)
+        z_min = 2.0 * (1.0 + 2.0 / (5.0 - 2.0 * sp.omega))
+        assert float(internal.parker_zrot(t, *sp.parker)) == pytest.approx(z_min, rel=1e-9)

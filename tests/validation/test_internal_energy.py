@@ -18,6 +18,7 @@ from rarefy.case import parse_case
 from rarefy.cli import execute
 from rarefy.constants import K_B
 from rarefy.engine.particles import EROT, EVIB, VX, VZ
+from rarefy.kernels.config import IP_ROT_P
 from rarefy.engine.simulation import Simulation
 from rarefy.gas import internal, kinetic
 from rarefy.gas.species import get_species
@@ -32,8 +33,9 @@ DEPTH_MM = 1.0
 VOLUME = (BOX_MM * 1e-3) ** 2 * DEPTH_MM * 1e-3
 
 
-def box_text(species: str, gas_lines: str, temperature_k: float = 300.0) -> str:
-    """A fully periodic 10 x 10 mm box at 10 Pa (TOML case text)."""
+def box_text(species: str, gas_lines: str, temperature_k: float = 300.0,
+             pressure_pa: float = 10.0) -> str:
+    """A fully periodic 10 x 10 mm box (TOML case text)."""
     sides = "\n".join(f'[boundaries.{s}]\nkind = "periodic"'
                       for s in ("xmin", "xmax", "ymin", "ymax"))
     return f"""
@@ -46,7 +48,7 @@ y = ["0 mm", "{BOX_MM} mm"]
 depth = "{DEPTH_MM} mm"
 {sides}
 [initial]
-pressure = "10 Pa"
+pressure = "{pressure_pa} Pa"
 temperature = "{temperature_k} K"
 [resolution]
 cell_size = "1 mm"
@@ -114,38 +116,72 @@ def test_rotational_relaxation_rate_and_equipartition(species, z, steps):
     assert abs(np.mean(finals) / t_final - 1.0) < 0.01
 
 
-def test_without_the_selection_correction_the_rate_would_be_wrong():
-    # power check of the test above: the probability 1/Z_rot (no correction) would relax
-    # N2 at (5 - 2 omega) / (5 - 2 omega + 2) = 0.64 of the Jeans rate (S), far outside 2 %
-    sp = get_species("N2")
-    lam = internal.selection_probability(5.0, 2, sp.omega)
-    assert lam * 5.0 == pytest.approx(1.0 + 2.0 / (5.0 - 2.0 * sp.omega))
-    assert 1.0 / (lam * 5.0) < 0.98
-
-
-def test_vibrational_equipartition():
-    # a harmonic mode in equilibrium holds k theta / (exp(theta/T) - 1) (textbook
-    # statistical mechanics; Bird 1994 ch. 5, M); N2 at 4000 K with its vibration emptied relaxes to the temperature that
-    # conserves (5/2) k T + E_v(T) (S). Quantized Larsen-Borgnakke must reach it with
-    # T_vib = T_rot = T_tr.
-    theta = get_species("N2").theta_vib_k
-    t0 = 4000.0
-    sim = box_sim(box_text("N2", "vibration = true\nvibration_number = 2",
-                           temperature_k=t0), 100_000, 7)
-    sim.store.state[EVIB, :sim.store.n] = 0.0
-    rows = []
-    for k in range(1500):
+def test_without_the_selection_correction_the_rate_is_wrong():
+    # power check of the rate test: the same box with the uncorrected selection
+    # probability 1/Z_rot relaxes at (5 - 2 omega) / (7 - 2 omega) = 0.64 of the Jeans
+    # rate (rarefy.gas.internal, S), far outside the 2 % the test above allows
+    z = 5.0
+    text = box_text("N2", f"rotation = {z}")
+    sim = box_sim(text, 100_000, 1)
+    sim.ip[IP_ROT_P] = 1.0 / z
+    sim.store.state[EROT, :sim.store.n] = 0.0
+    rows, ncoll = [], 0.0
+    for _ in range(200):
+        rows.append((2.0 * ncoll / sim.store.n, *temperatures(sim)[:2]))
         sim.step(False)
-        if k >= 1100 and k % 10 == 0:
-            rows.append(temperatures(sim))
-    t_tr, t_rot, e_vib = np.array(rows).T
-    t_vib = internal.vibrational_temperature(e_vib, theta)
-    t_f = brentq(lambda t: 2.5 * K_B * t + internal.vibrational_energy(t, theta)
-                 - 2.5 * K_B * t0, 1000.0, t0)
-    for name, t in (("translational", t_tr), ("rotational", t_rot), ("vibrational", t_vib)):
-        se = t.std(ddof=1) / math.sqrt(len(t) / 4.0)   # samples 2 collision times apart
+        ncoll += sim.coll_stats[0]
+    nc, t_tr, t_rot = np.array(rows).T
+    gap = t_tr - t_rot
+    sel = (gap < 0.8 * gap[0]) & (gap > 0.1 * gap[0])
+    ratio = -np.polyfit(nc[sel], np.log(gap[sel]), 1)[0] / internal.box_relaxation_rate(z, 2)
+    omega = get_species("N2").omega
+    print(f"\nN2 with 1/Z_rot: rate / Jeans {ratio:.3f} "
+          f"(expected {(5 - 2 * omega) / (7 - 2 * omega):.3f})")
+    assert ratio == pytest.approx((5 - 2 * omega) / (7 - 2 * omega), rel=0.03)
+    assert abs(ratio - 1.0) > 0.2
+
+
+def test_vibrational_relaxation_and_equipartition():
+    # A harmonic mode in equilibrium holds k theta / (exp(theta/T) - 1) (textbook
+    # statistical mechanics; Bird 1994 ch. 5, M). N2 at 4000 K with its vibration emptied
+    # relaxes to the temperature that conserves (5/2) k T + E_v(T) (S), with T_vib =
+    # T_rot = T_tr; on the way E_v(T_tr) - E_v decays per collision of one molecule at
+    # (1 + (2/5) c_v/k) / Z_vib (Jeans equation with energy conservation, S). The quantized
+    # exchange's step differs from the classical one the selection rule assumes by up to
+    # 14 % (rarefy.gas.internal.vib_selection_probability), so the rate is held to 8 %;
+    # rotation (Z_rot 3.2) follows translation closely.
+    theta = get_species("N2").theta_vib_k
+    t0, z_vib = 4000.0, 10.0
+    # 150 Pa: a step is 0.2 collision times (at 10 Pa the cells would limit it to 0.04)
+    sim = box_sim(box_text("N2", f"rotation = 3.2\nvibration = true\n"
+                                 f"vibration_number = {z_vib}", temperature_k=t0,
+                           pressure_pa=150.0), 100_000, 7)
+    sim.store.state[EVIB, :sim.store.n] = 0.0
+    rows, ncoll = [], 0.0
+    for _ in range(700):
+        rows.append((2.0 * ncoll / sim.store.n, *temperatures(sim)))
+        sim.step(False)
+        ncoll += sim.coll_stats[0]
+    nc, t_tr, t_rot, e_vib = np.array(rows).T
+    # the energy of the sample itself (its temperatures differ from t0 by ~0.3 %)
+    e_total = 1.5 * K_B * t_tr[0] + K_B * t_rot[0] + e_vib[0]
+    t_f = brentq(lambda t: 2.5 * K_B * t + internal.vibrational_energy(t, theta) - e_total,
+                 1000.0, t0)
+    gap = internal.vibrational_energy(t_tr, theta) - e_vib
+    sel = (gap < 0.8 * gap[0]) & (gap > 0.1 * gap[0])
+    rate = -np.polyfit(nc[sel], np.log(gap[sel]), 1)[0]
+    expected = internal.vib_box_relaxation_rate(z_vib, t_f, theta)
+    print(f"\nN2 vibration Z_vib {z_vib}: rate {rate:.4f} per collision (Jeans "
+          f"{expected:.4f}, ratio {rate / expected:.3f}); {nc[-1]:.1f} collisions")
+    assert abs(rate / expected - 1.0) < 0.08
+    assert nc[-1] > 10.0 / expected, "run too short to reach equilibrium"
+    tail = slice(400, 700, 5)           # samples about one collision time apart
+    t_vib = internal.vibrational_temperature(e_vib[tail], theta)
+    for name, t in (("translational", t_tr[tail]), ("rotational", t_rot[tail]),
+                    ("vibrational", t_vib)):
+        se = t.std(ddof=1) / math.sqrt(len(t))
         print(f"N2 vibration: {name} {t.mean():.1f} +- {se:.1f} K (expected {t_f:.1f})")
-        assert abs(t.mean() / t_f - 1.0) < 0.01, (name, t.mean(), t_f)
+        assert abs(t.mean() / t_f - 1.0) < min(0.01, max(4.0 * se / t_f, 0.002)), name
 
 
 def _plates_case(species: str, seed: int) -> str:
