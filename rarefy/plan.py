@@ -31,6 +31,7 @@ import numpy as np
 from rarefy.case import Case, CaseError
 from rarefy.constants import K_B
 from rarefy.gas import internal, kinetic
+from rarefy.gas.mixture import mixture_of
 from rarefy.gas.species import get_species
 
 DEFAULT_PARTICLES_PER_CELL = 20.0
@@ -52,7 +53,7 @@ class Plan:
 
     gas: str
     model: str
-    mass_kg: float
+    mass_kg: float                   # molecular mass; of a mixture, the mean at its fractions
     reference_pressure_pa: float
     reference_temperature_k: float
     reference_number_density_m3: float
@@ -76,6 +77,8 @@ class Plan:
     sample_steps: int
     batches: int
     expected_particles: float
+    species: tuple = ()              # the species in index order
+    mole_fractions: tuple = ()       # default composition (1.0 for a pure gas)
     rot_dof: int = 0
     rotation: str = ""               # "constant" or "parker" ("" for a monatomic gas)
     rot_collision_number: float = 0.0   # Z_rot (at the reference temperature for Parker)
@@ -283,10 +286,15 @@ def _resolve(case: Case) -> Plan:
     p_ref, t_ref, src = reference_state(case)
     n_ref = kinetic.number_density(p_ref, t_ref)
     mfp = kinetic.mean_free_path(model, n_ref, t_ref)
+    mu = kinetic.viscosity(model, t_ref)
+    mix = mixture_of(case.gas)
+    if mix.nspecies > 1:   # mean mass, mixture mean free path and Wilke viscosity
+        m = mix.mean_mass()
+        mfp = mix.mean_free_path(n_ref, t_ref)
+        mu = mix.viscosity(t_ref)
     cbar = kinetic.mean_speed(m, t_ref)
     vmp = kinetic.most_probable_speed(m, t_ref)
     tau = mfp / cbar
-    mu = kinetic.viscosity(model, t_ref)
     length = characteristic_length(case)
     d = case.domain
     lx, ly = d.xmax - d.xmin, d.ymax - d.ymin
@@ -346,8 +354,10 @@ def _resolve(case: Case) -> Plan:
     batches = min(batches, sample)
     subcells = res.subcells or DEFAULT_SUBCELLS
 
+    light = float(mix.masses.min())
     return Plan(
-        gas=sp.name, model=model.kind, mass_kg=m,
+        gas="+".join(mix.names), model=model.kind, mass_kg=m,
+        species=mix.names, mole_fractions=mix.fractions,
         reference_pressure_pa=p_ref, reference_temperature_k=t_ref,
         reference_number_density_m3=n_ref, reference_source=src,
         mean_free_path_m=mfp, collision_time_s=tau, viscosity_pa_s=mu, mean_speed_m_s=cbar,
@@ -357,7 +367,7 @@ def _resolve(case: Case) -> Plan:
         particle_weight=fnum, particles_per_cell=ppc, settle_steps=settle,
         sample_steps=sample, batches=batches,
         expected_particles=ppc * nx * ny, **_internal(case, sp, model, t_ref, chosen),
-        chosen=chosen, histogram_speed_max_m_s=histogram_speed_max(case, m),
+        chosen=chosen, histogram_speed_max_m_s=histogram_speed_max(case, light),
         histogram_bins=case.histograms.bins or DEFAULT_HISTOGRAM_BINS,
     )
 
@@ -400,7 +410,10 @@ def format_plan(plan: Plan) -> str:
     """The plan as text, with resolution diagnostics and warnings."""
     src = plan.chosen
     lines = [
-        f"gas                    {plan.gas} ({plan.model.upper()})",
+        f"gas                    {plan.gas} ({plan.model.upper()})" + (
+            "; mole fractions " + ", ".join(f"{n} {x:.4g}" for n, x in
+                                            zip(plan.species, plan.mole_fractions))
+            if len(plan.species) > 1 else ""),
         f"reference state        {plan.reference_pressure_pa:.4g} Pa, "
         f"{plan.reference_temperature_k:.4g} K ({plan.reference_source})",
         f"mean free path         {plan.mean_free_path_m * 1e3:.4g} mm",

@@ -190,6 +190,7 @@ def probe_results(r: ResultData, case=None) -> dict:
     vmax = edges[-1]
     cedges = np.linspace(-vmax, vmax, len(edges))
     for q, name in enumerate(r.probe_names):
+        mass = r.row_mass(r.probe_species[q])      # a mixture's probes: one per species
         direction = r.probe_direction[q]
         row = {"volume_m3": float(r.probe_volume[q]),
                "region_m": [float(v) for v in r.probe_box[q]], "direction": direction}
@@ -247,10 +248,14 @@ def speed_distribution(r: ResultData, name: str) -> SpeedDistribution | None:
     nb = len(edges) - 1
     mass = r.attrs["mass_kg"]
     if name in r.probe_names:
-        h = r.probe_hist[:, r.probe_names.index(name), H_SPEED, :nb]
+        q = r.probe_names.index(name)
+        h = r.probe_hist[:, q, H_SPEED, :nb]
+        mass = r.row_mass(r.probe_species[q])
         weighting = "density"
     elif name in r.plane_names:
-        h = r.flux[:, r.plane_names.index(name), F_HIST:F_HIST + nb]
+        q = r.plane_names.index(name)
+        h = r.flux[:, q, F_HIST:F_HIST + nb]
+        mass = r.row_mass(r.plane_species[q])
         weighting = "flux"
     else:
         return None
