@@ -288,9 +288,9 @@ def _resolve(case: Case) -> Plan:
     mfp = kinetic.mean_free_path(model, n_ref, t_ref)
     mu = kinetic.viscosity(model, t_ref)
     mix = mixture_of(case.gas)
-    if mix.nspecies > 1:   # mean mass, mixture mean free path and Wilke viscosity
-        m = mix.mean_mass()
-        mfp = mix.mean_free_path(n_ref, t_ref)
+    if mix.nspecies > 1:   # mean mass, Wilke viscosity; resolution by the species with
+        m = mix.mean_mass()  # the shortest mean free path (a heavy one in a light gas)
+        mfp = float(mix.species_mean_free_paths(n_ref, t_ref).min())
         mu = mix.viscosity(t_ref)
     cbar = kinetic.mean_speed(m, t_ref)
     vmp = kinetic.most_probable_speed(m, t_ref)

@@ -94,6 +94,22 @@ class Mixture:
             lam += x[p] / s if s > 0 else 0.0
         return lam
 
+    def species_mean_free_paths(self, n_m3: float, t_k: float, fractions=None) -> np.ndarray:
+        """Mean free path of each species in the mixture, m (the terms of
+        :meth:`mean_free_path`)."""
+        x = np.asarray(self.fractions if fractions is None else fractions)
+        t_ref = self.models[0].t_ref_k
+        out = np.empty(self.nspecies)
+        for p in range(self.nspecies):
+            s = 0.0
+            for q in range(self.nspecies):
+                d, w, _, _ = self.pair(p, q)
+                mp, mq = self.models[p].mass_kg, self.models[q].mass_kg
+                s += (x[q] * n_m3 * math.pi * d * d * (t_ref / t_k) ** (w - 0.5)
+                      * math.sqrt(1.0 + mp / mq))
+            out[p] = 1.0 / s if s > 0 else math.inf
+        return out
+
     def viscosity(self, t_k: float, fractions=None) -> float:
         """Viscosity of the mixture, Pa s: Wilke's (1950) rule over the species' VHS/VSS
         viscosities, mu = sum_i x_i mu_i / sum_j x_j phi_ij,
