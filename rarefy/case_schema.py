@@ -31,7 +31,7 @@ __all__ = ["build_case", "apply_override", "Checker"]
 TOP_KEYS = ("title", "gas", "domain", "boundaries", "walls", "flux_planes", "probes",
             "histograms", "initial", "resolution", "run")
 SECTION_KEYS = {
-    "gas": ("species", "mole_fractions", "model", "rotation", "vibration",
+    "gas": ("species", "model", "mole_fractions", "rotation", "vibration",
             "vibration_number"),
     "domain": ("geometry", "x", "y", "depth", "characteristic_length"),
     "initial": ("pressure", "temperature", "velocity", "mole_fractions"),

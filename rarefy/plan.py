@@ -79,6 +79,7 @@ class Plan:
     expected_particles: float
     species: tuple = ()              # the species in index order
     mole_fractions: tuple = ()       # default composition (1.0 for a pure gas)
+    species_mean_free_path_m: tuple = ()   # each species' in a mixture (m)
     rot_dof: int = 0
     rotation: str = ""               # "constant" or "parker" ("" for a monatomic gas)
     rot_collision_number: float = 0.0   # Z_rot (at the reference temperature for Parker)
@@ -117,6 +118,13 @@ class Plan:
                        "Borgnakke exchange can reach for "
                        f"{self.gas}: one molecule of every pair relaxes in every collision, "
                        "so rotation relaxes more slowly than Z_rot says")
+        for name, lam in zip(self.species, self.species_mean_free_path_m):
+            ratio = max(self.cell_dx_m, self.cell_dy_m) / lam
+            if ratio > LIMIT_CELL_OVER_MFP * 1.05 and lam < 0.7 * self.mean_free_path_m:
+                out.append(f"{name}'s own mean free path is {lam * 1e3:.3g} mm, shorter than "
+                           f"the mixture's: cells are {ratio:.2f} of it (usual limit "
+                           f"{LIMIT_CELL_OVER_MFP:.2f}); refine resolution.cell_size if "
+                           f"{name}'s transport matters")
         floor = self.rot_floor_temperature_k
         if self.rotation == "parker" and floor > 0.5 * self.reference_temperature_k:
             out.append(f"below {floor:.3g} K Parker's Z_rot for {self.gas} is smaller than "
@@ -288,9 +296,11 @@ def _resolve(case: Case) -> Plan:
     mfp = kinetic.mean_free_path(model, n_ref, t_ref)
     mu = kinetic.viscosity(model, t_ref)
     mix = mixture_of(case.gas)
-    if mix.nspecies > 1:   # mean mass, Wilke viscosity; resolution by the species with
-        m = mix.mean_mass()  # the shortest mean free path (a heavy one in a light gas)
-        mfp = float(mix.species_mean_free_paths(n_ref, t_ref).min())
+    species_mfp = ()
+    if mix.nspecies > 1:   # mean mass, mixture mean free path, Wilke viscosity
+        m = mix.mean_mass()
+        mfp = float(mix.mean_free_path(n_ref, t_ref))
+        species_mfp = tuple(float(v) for v in mix.species_mean_free_paths(n_ref, t_ref))
         mu = mix.viscosity(t_ref)
     cbar = kinetic.mean_speed(m, t_ref)
     vmp = kinetic.most_probable_speed(m, t_ref)
@@ -357,7 +367,7 @@ def _resolve(case: Case) -> Plan:
     light = float(mix.masses.min())
     return Plan(
         gas="+".join(mix.names), model=model.kind, mass_kg=m,
-        species=mix.names, mole_fractions=mix.fractions,
+        species=mix.names, mole_fractions=mix.fractions, species_mean_free_path_m=species_mfp,
         reference_pressure_pa=p_ref, reference_temperature_k=t_ref,
         reference_number_density_m3=n_ref, reference_source=src,
         mean_free_path_m=mfp, collision_time_s=tau, viscosity_pa_s=mu, mean_speed_m_s=cbar,

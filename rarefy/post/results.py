@@ -84,6 +84,17 @@ def reservoir_fractions(case: Case) -> tuple[np.ndarray, np.ndarray]:
             np.asarray(down.mole_fractions or default))
 
 
+def _fm_crossing_speed(parts, t0: float) -> float:
+    """Mean speed of the molecules crossing an opening in free-molecular effusion: each
+    species' flux-weighted mean speed, weighted by its one-way flux p_k / sqrt(m_k)."""
+    weights = [pu / math.sqrt(mm) for mm, _, pu, _ in parts]
+    speeds = [float(effusion.flux_weighted_mean_speed(t0, mm)) for mm, _, _, _ in parts]
+    total = sum(weights)
+    if total <= 0.0:
+        return float(np.mean(speeds))
+    return sum(w * c for w, c in zip(weights, speeds)) / total
+
+
 def flux_plane_results(r: ResultData, case: Case) -> dict:
     """Per flux plane: mass flow, transmission probability, crossing speeds, theory.
 
@@ -165,8 +176,7 @@ def flux_plane_results(r: ResultData, case: Case) -> dict:
                 "free_molecular_transmission": w_fm,
                 "free_molecular_net_mass_flow_kg_s": w_fm * fm_net,
                 "viscous_mass_flow_kg_s": viscous,
-                "free_molecular_crossing_mean_speed_m_s":
-                    effusion.flux_weighted_mean_speed(t0, m_up),
+                "free_molecular_crossing_mean_speed_m_s": _fm_crossing_speed(parts, t0),
                 "free_molecular_crossing_mean_energy_j":
                     effusion.flux_weighted_mean_energy(t0),
                 "isentropic_choked_mass_flow_kg_s": choked,
