@@ -79,7 +79,7 @@ class Plan:
     expected_particles: float
     species: tuple = ()              # the species in index order
     mole_fractions: tuple = ()       # default composition (1.0 for a pure gas)
-    species_mean_free_path_m: tuple = ()   # each species' in a mixture (m)
+    species_mean_free_path_m: tuple = ()   # each species' momentum mean free path (m)
     rot_dof: int = 0
     rotation: str = ""               # "constant" or "parker" ("" for a monatomic gas)
     rot_collision_number: float = 0.0   # Z_rot (at the reference temperature for Parker)
@@ -121,10 +121,10 @@ class Plan:
         for name, lam in zip(self.species, self.species_mean_free_path_m):
             ratio = max(self.cell_dx_m, self.cell_dy_m) / lam
             if ratio > LIMIT_CELL_OVER_MFP * 1.05 and lam < 0.7 * self.mean_free_path_m:
-                out.append(f"{name}'s own mean free path is {lam * 1e3:.3g} mm, shorter than "
-                           f"the mixture's: cells are {ratio:.2f} of it (usual limit "
-                           f"{LIMIT_CELL_OVER_MFP:.2f}); refine resolution.cell_size if "
-                           f"{name}'s transport matters")
+                out.append(f"{name} loses its momentum within {lam * 1e3:.3g} mm, less than "
+                           f"the mixture's mean free path: cells are {ratio:.2f} of it "
+                           f"(usual limit {LIMIT_CELL_OVER_MFP:.2f}); refine "
+                           f"resolution.cell_size if {name}'s transport matters")
         floor = self.rot_floor_temperature_k
         if self.rotation == "parker" and floor > 0.5 * self.reference_temperature_k:
             out.append(f"below {floor:.3g} K Parker's Z_rot for {self.gas} is smaller than "
@@ -297,14 +297,20 @@ def _resolve(case: Case) -> Plan:
     mu = kinetic.viscosity(model, t_ref)
     mix = mixture_of(case.gas)
     species_mfp = ()
-    if mix.nspecies > 1:   # mean mass, mixture mean free path, Wilke viscosity
-        m = mix.mean_mass()
-        mfp = float(mix.mean_free_path(n_ref, t_ref))
-        species_mfp = tuple(float(v) for v in mix.species_mean_free_paths(n_ref, t_ref))
-        mu = mix.viscosity(t_ref)
     cbar = kinetic.mean_speed(m, t_ref)
     vmp = kinetic.most_probable_speed(m, t_ref)
     tau = mfp / cbar
+    if mix.nspecies > 1:
+        # mean mass, mixture mean free path and Wilke viscosity for the similarity
+        # numbers; the collision time from every pair's rate; the lightest species'
+        # mean speed for the time step and the heaviest's for the settling transit
+        m = mix.mean_mass()
+        mfp = float(mix.mean_free_path(n_ref, t_ref))
+        species_mfp = tuple(float(v) for v in mix.momentum_mean_free_paths(n_ref, t_ref))
+        mu = mix.viscosity(t_ref)
+        tau = mix.collision_time(n_ref, t_ref)
+        cbar = kinetic.mean_speed(float(mix.masses.min()), t_ref)
+        vmp = kinetic.most_probable_speed(float(mix.masses.max()), t_ref)
     length = characteristic_length(case)
     d = case.domain
     lx, ly = d.xmax - d.xmin, d.ymax - d.ymin

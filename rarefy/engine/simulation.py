@@ -421,7 +421,7 @@ class Simulation:
                                  every, checkpoint)
             if target_error is None:
                 return self.acc
-            rel = self.acc.relative_error(plane)
+            rel = self.acc.relative_error(plane, self.masses)
             if rel <= target_error:
                 self.stop_reason = f"target error reached ({rel:.3g} <= {target_error:g})"
                 return self.acc

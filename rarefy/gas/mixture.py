@@ -77,6 +77,31 @@ class Mixture:
         return (2.0 * d * d * math.sqrt(2.0 * math.pi * K_B * t_ref / m_r)
                 * (t_k / t_ref) ** (1.0 - w))
 
+    def collision_time(self, n_m3: float, t_k: float, fractions=None) -> float:
+        """Mean time between collisions of a molecule, s: 1 / sum_p x_p sum_q n_q
+        <sigma_pq c_r> (equilibrium collision rates per pair)."""
+        x = np.asarray(self.fractions if fractions is None else fractions)
+        nu = sum(x[p] * x[q] * n_m3 * self.mean_sigma_cr(p, q, t_k)
+                 for p in range(self.nspecies) for q in range(self.nspecies))
+        return 1.0 / nu if nu > 0 else math.inf
+
+    def momentum_mean_free_paths(self, n_m3: float, t_k: float, fractions=None) -> np.ndarray:
+        """Per species, the distance its mean speed covers while collisions take away its
+        momentum, c_p / (2 sum_q n_q <sigma_pq c_r> m_q / (m_p + m_q)), m (each collision
+        of isotropic scattering removes the fraction m_q / (m_p + m_q) of it on average;
+        equals the mean free path c / (n <sigma c_r>) of a pure gas). A heavy species
+        among light molecules needs many collisions to change course: the length its
+        flow varies over."""
+        x = np.asarray(self.fractions if fractions is None else fractions)
+        out = np.empty(self.nspecies)
+        for p in range(self.nspecies):
+            mp = self.models[p].mass_kg
+            rate = sum(2.0 * x[q] * n_m3 * self.mean_sigma_cr(p, q, t_k)
+                       * self.models[q].mass_kg / (mp + self.models[q].mass_kg)
+                       for q in range(self.nspecies))
+            out[p] = float(kinetic.mean_speed(mp, t_k)) / rate if rate > 0 else math.inf
+        return out
+
     def mean_free_path(self, n_m3: float, t_k: float, fractions=None) -> float:
         """Mean free path of the mixture, m: the fraction-weighted mean over species p of
         1 / sum_q n_q pi d_pq^2 (T_ref/T)^(omega_pq - 1/2) sqrt(1 + m_p/m_q) (Bird 1994

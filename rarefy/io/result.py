@@ -18,13 +18,17 @@ Layout (format ``rarefy-result-2``; dimensions in brackets):
 /y_node [y_node]
 /volume [y, x]         cell volumes (m^3; 0 inside solids)
 /row_weight [y]        particle weight factor per cell row
-/NAME [y, x]           cell fields (``FIELD_UNITS``); ``NAME_stderr``: batch-means
-                       standard error (NaN with fewer than two batches)
+/NAME [y, x]           cell fields (``field_unit``: a mixture adds number_density_SP,
+                       mole_fraction_SP, velocity_x_SP, velocity_y_SP per species SP);
+                       ``NAME_stderr``: batch-means standard error (NaN with fewer than
+                       two batches)
 /batch, /facet, ...    dimensions without values (netCDF "dimension but not variable"):
                        batch, facet, plane, probe, segment, xy, end_point_coordinate,
                        rectangle_side, speed_edge, bin, histogram, moment, probe_moment,
-                       surface_tally_column, flux_tally_column, collision_column
+                       surface_tally_column, flux_tally_column, collision_column, species
 /case/text             the case file as given (string)
+/gas/                  species [species] (string; one entry, the gas, for a pure gas),
+                       mass [species] (kg)
 /surfaces/             owner [facet] (string), centre [facet, xy], normal [facet, xy],
                        area [facet]
 /flux_planes/          name [plane] (string), points [plane, end_point_coordinate],
@@ -39,7 +43,11 @@ Layout (format ``rarefy-result-2``; dimensions in brackets):
                        probe_moments [batch, probe, probe_moment], probe_histograms
                        [batch, probe, histogram, bin] (the last bin collects what falls
                        outside), collisions [batch, collision_column], particles [batch];
-                       a ``columns`` attribute names each column
+                       a ``columns`` attribute names each column. A mixture's tallies
+                       have a species dimension after facet, plane, probe or x:
+                       cell_total [y, x, species, moment], surface_tally [batch, facet,
+                       species, ...], flux_tally [batch, plane, species, ...], probe
+                       sums [batch, probe, species, ...]
 
 Strings are variable-length UTF-8 (netCDF ``string``); flags are 0/1 integers.
 
@@ -284,7 +292,7 @@ def _write(tmp: Path, sim, interrupted: bool, status: str | None) -> None:
                            ("end_point_coordinate", 4), ("rectangle_side", 4),
                            ("speed_edge", nbins + 1), ("bin", nbins + 1),
                            ("histogram", acc.probe_hist.shape[2]),
-                           ("moment", acc.cell_total.shape[1]),
+                           ("moment", acc.cell_total.shape[1] // nsp),
                            ("probe_moment", acc.probe_mom.shape[2]),
                            ("surface_tally_column", acc.surf.shape[2]),
                            ("flux_tally_column", acc.flux.shape[2]),
@@ -346,8 +354,10 @@ def _write(tmp: Path, sim, interrupted: bool, status: str | None) -> None:
                    "m", "wall segments x0, y0, x1, y1")
         raw = f.create_group("raw")
         mixed = "SI, per column (see columns)"
-        w.variable(raw, "cell_total", acc.cell_total.reshape(geom.ny, geom.nx, -1),
-                   yx + ("moment",), mixed, "sums over the sampled steps of the particles' "
+        w.variable(raw, "cell_total",
+                   acc.cell_total.reshape(geom.ny, geom.nx, *((nsp,) if nsp > 1 else ()),
+                                          -1),
+                   yx + sp_dim + ("moment",), mixed, "sums over the sampled steps of the particles' "
                    "velocity moments per cell", columns=MOMENT_COLUMNS)
         w.variable(raw, "surface_tally", per_species(acc.surf[:nb], len(geom.facet_owner)),
                    ("batch", "facet", *sp_dim, "surface_tally_column"), mixed,

@@ -87,8 +87,10 @@ def reservoir_fractions(case: Case) -> tuple[np.ndarray, np.ndarray]:
 def _fm_crossing_speed(parts, t0: float) -> float:
     """Mean speed of the molecules crossing an opening in free-molecular effusion: each
     species' flux-weighted mean speed, weighted by its one-way flux p_k / sqrt(m_k)."""
-    weights = [pu / math.sqrt(mm) for mm, _, pu, _ in parts]
     speeds = [float(effusion.flux_weighted_mean_speed(t0, mm)) for mm, _, _, _ in parts]
+    if len(parts) == 1:
+        return speeds[0]
+    weights = [pu / math.sqrt(mm) for mm, _, pu, _ in parts]
     total = sum(weights)
     if total <= 0.0:
         return float(np.mean(speeds))
@@ -125,12 +127,17 @@ def flux_plane_results(r: ResultData, case: Case) -> dict:
                       p1 * x_down[j]) for j in range(len(r.species))]
         m_up = float(sum(x * mm for x, mm in zip(x_up, masses))) if not spk >= 0 \
             else parts[0][0]
-        net_n = sum((t[:, F_N_POS] - t[:, F_N_NEG]) for _, t, _, _ in parts) \
-            * fnum * factor / period
-        net_m = sum(mm * (t[:, F_N_POS] - t[:, F_N_NEG]) for mm, t, _, _ in parts) \
-            * fnum * factor / period
-        mdot, mdot_se = batch_mean(net_m)
-        nflow, nflow_se = batch_mean(net_n)
+        nets = [(t[:, F_N_POS] - t[:, F_N_NEG]) * fnum * factor / period
+                for _, t, _, _ in parts]
+        mdot, mdot_se = batch_mean(sum(net * mm for net, (mm, _, _, _) in zip(nets, parts)))
+        if len(parts) == 1:                   # one species: as mass flow / m
+            nflow, nflow_se = mdot / parts[0][0], mdot_se / parts[0][0]
+            rho0 = parts[0][2] / (K_B / parts[0][0] * t0)
+            thr = mdot / rho0 * parts[0][2] if rho0 > 0 else math.nan
+            thr_se = mdot_se / rho0 * parts[0][2] if rho0 > 0 else math.nan
+        else:                                 # p V of the molecules: N k T0
+            nflow, nflow_se = batch_mean(sum(nets))
+            thr, thr_se = nflow * K_B * t0, nflow_se * K_B * t0
         area = float(r.plane_area[k])
         fm = sum(effusion.free_molecular_mass_flow(area, pu, t0, mm) for mm, _, pu, _ in parts)
         fm_net = sum(effusion.free_molecular_mass_flow(area, pu, t0, mm, p_down_pa=pd)
@@ -143,23 +150,28 @@ def flux_plane_results(r: ResultData, case: Case) -> dict:
                 / tally[:, F_N_POS]
         c_mean, c_se = batch_mean(speed)
         e_mean, e_se = batch_mean(energy)
-        choked = continuum.choked_mass_flux(p_up, t0, m_up, gamma) * area
+        # continuum references: the whole gas expands together, a species carries its
+        # mass fraction of the whole gas's flow
+        share, cp_up, cp_down, cm_up = 1.0, p_up, p_down, m_up
+        if mixture and spk >= 0:
+            share = x_up[spk] * masses[spk] / float(x_up @ masses)
+            cp_up, cp_down, cm_up = p0, p1, float(x_up @ masses)
+        choked = continuum.choked_mass_flux(cp_up, t0, cm_up, gamma) * area * share
         plane = case.flux_planes[r.plane_index[k]]
         w_fm = free_molecular_transmission(plane, case.domain.axisymmetric)
         mix = mixture_of(case.gas)
-        mu0 = mix.viscosity(t0, x_up) if mixture and spk < 0 else \
-            kinetic.viscosity(get_species(r.species[max(spk, 0)]).model(case.gas.model)
-                              if mixture else sp.model(case.gas.model), t0)
-        viscous = viscous_mass_flow(plane, case.domain.axisymmetric, mu0, p_up, p_down, t0,
-                                    m_up, case.domain.depth_m)
+        mu0 = mix.viscosity(t0, x_up) if mixture else \
+            kinetic.viscosity(sp.model(case.gas.model), t0)
+        viscous = viscous_mass_flow(plane, case.domain.axisymmetric, mu0, cp_up, cp_down, t0,
+                                    cm_up, case.domain.depth_m) * share
         out[name] = {
-            "species": r.species[spk] if spk >= 0 and mixture else "all",
+            "species": r.species[spk] if spk >= 0 else "+".join(r.species),
             "mass_flow_kg_s": mdot,
             "mass_flow_stderr_kg_s": mdot_se,
             "number_flow_1_s": nflow,
             "number_flow_stderr_1_s": nflow_se,
-            "throughput_pa_m3_s": nflow * K_B * t0,
-            "throughput_stderr_pa_m3_s": nflow_se * K_B * t0,
+            "throughput_pa_m3_s": thr,
+            "throughput_stderr_pa_m3_s": thr_se,
             "free_molecular_mass_flow_kg_s": fm,
             "transmission_probability": mdot / fm if fm > 0 else math.nan,
             "transmission_probability_stderr": mdot_se / fm if fm > 0 else math.nan,

@@ -63,14 +63,23 @@ class Accumulators:
         self.probe_hist = np.pad(self.probe_hist, pad + ((0, 0),))
         self.batches += extra
 
-    def relative_error(self, plane: int) -> float:
-        """Batch-means relative standard error of the net flow through flux plane
+    def net_flow(self, plane: int, masses=None) -> np.ndarray:
+        """Per completed batch, the net crossings of flux plane ``plane`` (a mixture's
+        species rows weighted by ``masses``, a mass flow in their unit)."""
+        nb = self.batch
+        rows = self.flux[:nb, plane * self.nspecies:(plane + 1) * self.nspecies]
+        net = rows[:, :, 0] - rows[:, :, 1]
+        if self.nspecies == 1:
+            return net[:, 0]
+        return net @ (np.ones(self.nspecies) if masses is None else np.asarray(masses))
+
+    def relative_error(self, plane: int, masses=None) -> float:
+        """Batch-means relative standard error of the net (mass) flow through flux plane
         ``plane`` over the completed batches (inf while it cannot be told)."""
         nb = self.batch
         if nb < 2:
             return np.inf
-        rows = self.flux[:nb, plane * self.nspecies:(plane + 1) * self.nspecies]
-        net = (rows[:, :, 0] - rows[:, :, 1]).sum(axis=1)
+        net = self.net_flow(plane, masses)
         mean = net.mean()
         if mean == 0.0:
             return np.inf

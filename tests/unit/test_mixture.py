@@ -119,6 +119,13 @@ def test_mixing_rules_reduce_to_the_pure_gas():
     assert w == pytest.approx(0.5 * (he.omega + xe.omega))
     assert alpha == pytest.approx(0.5 * (he.alpha + xe.alpha))
     assert m_r == pytest.approx(he.mass_kg * xe.mass_kg / (he.mass_kg + xe.mass_kg))
+    # the unlike pair's cross-section: Bird 1994 eq. 4.63 with d_pq, omega_pq and the
+    # reduced mass (M), against numbers entered here
+    a, e, al = mix.sigma_cr_coefficients()
+    assert a[0, 1] == a[1, 0] == pytest.approx(
+        math.pi * d * d * (2.0 * K_B * 273.0 / m_r) ** (w - 0.5) / math.gamma(2.5 - w),
+        rel=1e-12)
+    assert e[0, 1] == pytest.approx(2.0 - 2.0 * w) and al[0, 1] == pytest.approx(alpha)
 
 
 def test_helium_argon_viscosity_has_its_known_maximum():
