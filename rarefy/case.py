@@ -93,6 +93,13 @@ class GasSpec:
     vibration: bool = False
     vibration_number: float | str | None = None
     rotation_set: bool = False      # rotation given in the case (else the default)
+    mixture: tuple[str, ...] = ()   # every species of a mixture (empty: one species)
+    mole_fractions: tuple[float, ...] = ()   # default composition of a mixture
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        """The species simulated, in the order of their index (one for a pure gas)."""
+        return self.mixture or (self.species,)
 
 
 @dataclass(frozen=True)
@@ -159,6 +166,7 @@ class Boundary:
     temperature_k: float | None
     velocity_m_s: tuple[float, float, float]
     surface: Surface | None
+    mole_fractions: tuple[float, ...] | None = None   # reservoir of a mixture (None: the gas's)
 
 
 @dataclass(frozen=True)
@@ -212,6 +220,7 @@ class InitialState:
     pressure_pa: float
     temperature_k: float
     velocity_m_s: tuple[float, float, float]
+    mole_fractions: tuple[float, ...] | None = None   # of a mixture (None: the gas's)
 
 
 @dataclass(frozen=True)

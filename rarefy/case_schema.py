@@ -31,15 +31,17 @@ __all__ = ["build_case", "apply_override", "Checker"]
 TOP_KEYS = ("title", "gas", "domain", "boundaries", "walls", "flux_planes", "probes",
             "histograms", "initial", "resolution", "run")
 SECTION_KEYS = {
-    "gas": ("species", "model", "rotation", "vibration", "vibration_number"),
+    "gas": ("species", "model", "mole_fractions", "rotation", "vibration",
+            "vibration_number"),
     "domain": ("geometry", "x", "y", "depth", "characteristic_length"),
-    "initial": ("pressure", "temperature", "velocity"),
+    "initial": ("pressure", "temperature", "velocity", "mole_fractions"),
     "resolution": ("cell_size", "time_step", "particles_per_cell", "particle_weight", "subcells"),
     "run": ("settle_steps", "sample_steps", "batches", "seed", "time_budget"),
     "histograms": ("speed_max", "bins"),
 }
 BOUNDARY_KEYS = {
-    "reservoir": ("kind", "from", "to", "pressure", "temperature", "velocity"),
+    "reservoir": ("kind", "from", "to", "pressure", "temperature", "velocity",
+                  "mole_fractions"),
     "vacuum": ("kind", "from", "to"),
     "periodic": ("kind",),
     "symmetry": ("kind", "from", "to"),
@@ -47,7 +49,7 @@ BOUNDARY_KEYS = {
     "wall": ("kind", "from", "to", "surface", "temperature", "accommodation", "velocity"),
 }
 ALL_BOUNDARY_KEYS = ("kind", "from", "to", "pressure", "temperature", "velocity", "surface",
-                     "accommodation")
+                     "accommodation", "mole_fractions")
 ARRAY_KEYS = {
     "walls": ("name", "points", "solid", "surface", "temperature", "accommodation", "velocity"),
     "flux_planes": ("name", "points", "mirrored", "opening", "opening_length"),
@@ -78,6 +80,7 @@ PARTICLES_PER_CELL_RANGE = (1e-6, 1e9)
 PARTICLE_WEIGHT_RANGE = (1e-20, 1e40)
 MAX_COUNT = 10 ** 12               # step counts and batches
 MAX_SUBCELLS = 100
+MAX_SPECIES = 8
 
 
 def _join(prefix: str, name: str) -> str:
@@ -201,6 +204,11 @@ def _species(chk: Checker, gas: dict) -> GasSpec:
 
     name = chk.require(gas, "gas", "species", f"allowed: {', '.join(SPECIES)}")
     canon = {k.lower(): k for k in SPECIES}
+    if isinstance(name, list):
+        return _mixture(chk, gas, name, canon)
+    if "mole_fractions" in gas:
+        chk.fail("gas.mole_fractions", "allowed only for a mixture: give species as a list, "
+                                       'e.g. species = ["He", "Xe"]')
     if not isinstance(name, str) or name.strip().lower() not in canon:
         chk.fail("gas.species", f"unknown species {show(name)}; allowed: {', '.join(SPECIES)}")
     species = canon[name.strip().lower()]
@@ -228,6 +236,53 @@ def _species(chk: Checker, gas: dict) -> GasSpec:
         number = _collision_number(chk, gas.get("vibration_number", "millikan-white"),
                                    "gas.vibration_number", "millikan-white", True, species)
     return GasSpec(species, model, rotation, vibration, number, "rotation" in gas)
+
+
+def _mixture(chk: Checker, gas: dict, names: list, canon: dict) -> GasSpec:
+    """A mixture: species a list of distinct monatomic species, mole_fractions its
+    default composition."""
+    from rarefy.gas.species import SPECIES
+
+    if not 2 <= len(names) <= MAX_SPECIES:
+        chk.fail("gas.species", f"a mixture lists 2 to {MAX_SPECIES} species; got {show(names)}")
+    species = []
+    for k, n in enumerate(names):
+        if not isinstance(n, str) or n.strip().lower() not in canon:
+            chk.fail(f"gas.species[{k}]", f"unknown species {show(n)}; allowed: "
+                                          f"{', '.join(SPECIES)}")
+        s = canon[n.strip().lower()]
+        if s in species:
+            chk.fail(f"gas.species[{k}]", f"{s} is listed twice")
+        if SPECIES[s].rot_dof:
+            chk.fail(f"gas.species[{k}]", f"{s} is a molecule: mixtures of this version hold "
+                     "monatomic gases only (He, Ne, Ar, Kr, Xe); simulate it as a pure gas")
+        species.append(s)
+    model = chk.choice(gas.get("model", "vhs"), "gas.model", MODELS)
+    for s in species:
+        if model == "vss" and SPECIES[s].alpha is None:
+            chk.fail("gas.model", f'"vss" needs VSS data, which {s} lacks; allowed: hs, vhs')
+    for key in ("rotation", "vibration", "vibration_number"):
+        if key in gas:
+            chk.fail(f"gas.{key}", "a mixture of monatomic gases has no internal energy; "
+                                   "remove the key")
+    fractions = mole_fractions(chk, chk.require(gas, "gas", "mole_fractions",
+                                                f"one number per species, summing to 1, e.g. "
+                                                f"[{', '.join(['0.5'] * len(species))}]"),
+                               "gas.mole_fractions", len(species))
+    return GasSpec(species[0], model, mixture=tuple(species), mole_fractions=fractions)
+
+
+def mole_fractions(chk: Checker, value: Any, key: str, count: int) -> tuple[float, ...]:
+    """``count`` mole fractions >= 0 that sum to 1 (within 1e-6; rescaled to exactly 1)."""
+    if not isinstance(value, list) or len(value) != count or any(
+            isinstance(v, bool) or not isinstance(v, (int, float)) or not 0.0 <= v <= 1.0
+            for v in value):
+        chk.fail(key, f"must be a list of {count} numbers from 0 to 1, one per species in the "
+                      f"order of gas.species; got {show(value)}")
+    total = math.fsum(value)
+    if abs(total - 1.0) > 1e-6:
+        chk.fail(key, f"must sum to 1; got {show(value)} (sum {total:.6g})")
+    return tuple(float(v) / total for v in value)
 
 
 def _collision_number(chk: Checker, value: Any, key: str, formula: str, has_formula: bool,
@@ -276,7 +331,17 @@ def _domain(chk: Checker, tbl: dict) -> Domain:
                   spans[1][1], depth, lc, geometry)
 
 
-def _initial(chk: Checker, tbl: dict, default_t: float) -> InitialState:
+def _fractions_of(chk: Checker, tbl: dict, key: str, nspecies: int) -> tuple | None:
+    """The table's own mole_fractions (a mixture's reservoir or initial fill), or None."""
+    if "mole_fractions" not in tbl:
+        return None
+    if nspecies < 2:
+        chk.fail(_join(key, "mole_fractions"), "allowed only for a mixture: give gas.species "
+                                               'as a list, e.g. ["He", "Xe"]')
+    return mole_fractions(chk, tbl["mole_fractions"], _join(key, "mole_fractions"), nspecies)
+
+
+def _initial(chk: Checker, tbl: dict, default_t: float, nspecies: int = 1) -> InitialState:
     p = chk.quantity(tbl.get("pressure", 0.0), "initial.pressure", "pressure", 0.0, strict=False)
     if p > 0.0:
         chk.require(tbl, "initial", "temperature",
@@ -285,7 +350,7 @@ def _initial(chk: Checker, tbl: dict, default_t: float) -> InitialState:
     if "temperature" in tbl:
         t = chk.quantity(tbl["temperature"], "initial.temperature", "temperature", 0.0)
     v = chk.vector3(tbl.get("velocity", [0.0, 0.0, 0.0]), "initial.velocity")
-    return InitialState(p, t, v)
+    return InitialState(p, t, v, _fractions_of(chk, tbl, "initial", nspecies))
 
 
 def _resolution(chk: Checker, tbl: dict) -> Resolution:
@@ -330,7 +395,8 @@ def _array(chk: Checker, value: Any, key: str) -> list:
     return value
 
 
-def _piece(chk: Checker, tbl: dict, key: str, side: str, span: tuple, single: bool) -> Boundary:
+def _piece(chk: Checker, tbl: dict, key: str, side: str, span: tuple, single: bool,
+           nspecies: int = 1) -> Boundary:
     kinds = tuple(BOUNDARY_KEYS)
     kind = chk.choice(chk.require(tbl, key, "kind", f"allowed: {', '.join(kinds)}"),
                       f"{key}.kind", kinds)
@@ -351,9 +417,10 @@ def _piece(chk: Checker, tbl: dict, key: str, side: str, span: tuple, single: bo
     if not ends[1] > ends[0]:
         chk.fail(f"{key}.to", f"must be greater than from ({ends[0]:.6g} m); "
                               f"got {show(tbl.get('to'))}")
-    p = t = surface = None
+    p = t = surface = fractions = None
     v = (0.0, 0.0, 0.0)
     if kind == "reservoir":
+        fractions = _fractions_of(chk, tbl, key, nspecies)
         p = chk.quantity(chk.require(tbl, key, "pressure", f"a reservoir needs a pressure > 0, "
                                      f"e.g. \"1 Pa\" (units: {_units('pressure')})"),
                          f"{key}.pressure", "pressure", 0.0)
@@ -364,10 +431,11 @@ def _piece(chk: Checker, tbl: dict, key: str, side: str, span: tuple, single: bo
     elif kind == "wall":
         surface = chk.surface(tbl, key)
         t = surface.temperature_k
-    return Boundary(side, ends[0], ends[1], kind, p, t, v, surface)
+    return Boundary(side, ends[0], ends[1], kind, p, t, v, surface, fractions)
 
 
-def _boundaries(chk: Checker, value: Any, domain: Domain) -> tuple[Boundary, ...]:
+def _boundaries(chk: Checker, value: Any, domain: Domain,
+                nspecies: int = 1) -> tuple[Boundary, ...]:
     table = chk.table(value, "boundaries", SIDES)
     result: list[Boundary] = []
     for side in SIDES:
@@ -383,7 +451,8 @@ def _boundaries(chk: Checker, value: Any, domain: Domain) -> tuple[Boundary, ...
             chk.fail(key, f"must be a table [{key}] (whole side) or an array of tables "
                           f"[[{key}]] (pieces)")
         span = domain.side_range(side)
-        pieces = sorted(((k, _piece(chk, v, k, side, span, len(items) == 1)) for k, v in items),
+        pieces = sorted(((k, _piece(chk, v, k, side, span, len(items) == 1, nspecies))
+                         for k, v in items),
                         key=lambda item: item[1].start)
         tol, pos = 1e-9 * (span[1] - span[0]), span[0]
         for i, (k, b) in enumerate(pieces):
@@ -397,7 +466,7 @@ def _boundaries(chk: Checker, value: Any, domain: Domain) -> tuple[Boundary, ...
                 chk.fail(f"{k}.to", f"pieces must tile the side from {span[0]:.6g} m to "
                          f"{span[1]:.6g} m; the last piece ends at {b.end:.6g} m")
             result.append(Boundary(side, pos, end, b.kind, b.pressure_pa, b.temperature_k,
-                                   b.velocity_m_s, b.surface))
+                                   b.velocity_m_s, b.surface, b.mole_fractions))
             pos = end
     kinds = {b.side: b.kind for b in result}
     for b in result:
@@ -585,7 +654,7 @@ def build_case(raw: dict, path: str) -> dict[str, Any]:
         chk.require(raw, "", name, f"the case needs a [{name}] section")
     gas = _species(chk, chk.table(raw["gas"], "gas", SECTION_KEYS["gas"]))
     domain = _domain(chk, chk.table(raw["domain"], "domain", SECTION_KEYS["domain"]))
-    boundaries = _boundaries(chk, raw["boundaries"], domain)
+    boundaries = _boundaries(chk, raw["boundaries"], domain, len(gas.names))
     walls = _walls(chk, raw.get("walls", []), domain)
     planes = _flux_planes(chk, raw.get("flux_planes", []), domain, boundaries)
     probes = _probes(chk, raw.get("probes", []), domain,
@@ -595,7 +664,7 @@ def build_case(raw: dict, path: str) -> dict[str, Any]:
     reservoirs = [b for b in boundaries if b.kind == "reservoir"]
     default_t = reservoirs[0].temperature_k if reservoirs else 300.0
     initial = _initial(chk, chk.table(raw.get("initial", {}), "initial",
-                                      SECTION_KEYS["initial"]), default_t)
+                                      SECTION_KEYS["initial"]), default_t, len(gas.names))
     resolution = _resolution(chk, chk.table(raw.get("resolution", {}), "resolution",
                                             SECTION_KEYS["resolution"]))
     run = _run(chk, chk.table(raw.get("run", {}), "run", SECTION_KEYS["run"]))

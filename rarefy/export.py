@@ -38,7 +38,7 @@ import numpy as np
 
 from rarefy.io.result import ResultData, read_result
 from rarefy.kernels.config import H_SPEED, H_VX, H_VY, H_VZ
-from rarefy.post.fields import FIELD_UNITS
+from rarefy.post.fields import field_unit
 from rarefy.post.results import surface_results
 from rarefy.report import build_report
 
@@ -68,7 +68,10 @@ def _with_unit(name: str, unit: str) -> str:
 
 def field_columns(name: str) -> tuple[str, str]:
     """The ``fields.csv`` columns of a cell field and of its standard error."""
-    unit = FIELD_UNITS.get(name, "1")
+    try:
+        unit = field_unit(name)
+    except KeyError:
+        unit = "1"
     return _with_unit(name, unit), _with_unit(name + "_stderr", unit)
 
 

@@ -29,6 +29,7 @@ import math
 import os
 
 from rarefy.case import Case, one_line
+from rarefy.kernels.config import N_MOMENTS
 from rarefy.plan import Plan
 
 __all__ = [
@@ -74,8 +75,9 @@ FLUX_TALLY, PROBE_TALLY, FACET_TALLY = 6, 14, 9
 
 def bytes_per_particle(plan: Plan) -> int:
     """Bytes a particle slot takes for the plan's gas: 84, plus 16 for rotation and 16
-    more with vibration."""
-    return BYTES_PER_PARTICLE + 16 * ((1 + int(plan.vibration)) if plan.rot_dof else 0)
+    more with vibration, and 16 for the species of a mixture."""
+    return (BYTES_PER_PARTICLE + 16 * ((1 + int(plan.vibration)) if plan.rot_dof else 0)
+            + 16 * (len(plan.species) > 1))
 
 # Throughput assumed for the wall-time estimate: 5e6 particle-steps per second, a
 # conservative figure for this engine on one core of an ordinary laptop (move,
@@ -159,14 +161,16 @@ def estimate_memory_bytes(case: Case, plan: Plan) -> dict[str, float]:
     and surfaces.
     """
     bins = plan.histogram_bins + 1
-    per_batch = 8.0 * (len(case.flux_planes) * (FLUX_TALLY + 2 * bins)
-                       + len(case.probes) * (PROBE_TALLY + 4 * bins)
-                       + _facets(case, plan) * FACET_TALLY + 4)
+    nsp = max(1, len(plan.species))      # a mixture keeps every tally per species
+    per_batch = 8.0 * nsp * (len(case.flux_planes) * (FLUX_TALLY + 2 * bins)
+                             + len(case.probes) * (PROBE_TALLY + 4 * bins)
+                             + _facets(case, plan) * FACET_TALLY) + 32.0
     return {
         "particles": float(plan.expected_particles) * (STORE_HEADROOM
                                                        * bytes_per_particle(plan)
                                                        + SORT_BYTES_PER_PARTICLE),
-        "grid": float(plan.ncell) * (BYTES_PER_CELL + BYTES_PER_SUBCELL * plan.subcells ** 2),
+        "grid": float(plan.ncell) * (BYTES_PER_CELL + 16 * N_MOMENTS * (nsp - 1)
+                                     + BYTES_PER_SUBCELL * plan.subcells ** 2),
         "batches": per_batch * plan.batches,
     }
 

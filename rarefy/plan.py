@@ -31,6 +31,7 @@ import numpy as np
 from rarefy.case import Case, CaseError
 from rarefy.constants import K_B
 from rarefy.gas import internal, kinetic
+from rarefy.gas.mixture import mixture_of
 from rarefy.gas.species import get_species
 
 DEFAULT_PARTICLES_PER_CELL = 20.0
@@ -52,7 +53,7 @@ class Plan:
 
     gas: str
     model: str
-    mass_kg: float
+    mass_kg: float                   # molecular mass; of a mixture, the mean at its fractions
     reference_pressure_pa: float
     reference_temperature_k: float
     reference_number_density_m3: float
@@ -76,6 +77,9 @@ class Plan:
     sample_steps: int
     batches: int
     expected_particles: float
+    species: tuple = ()              # the species in index order
+    mole_fractions: tuple = ()       # default composition (1.0 for a pure gas)
+    species_mean_free_path_m: tuple = ()   # each species' momentum mean free path (m)
     rot_dof: int = 0
     rotation: str = ""               # "constant" or "parker" ("" for a monatomic gas)
     rot_collision_number: float = 0.0   # Z_rot (at the reference temperature for Parker)
@@ -114,6 +118,13 @@ class Plan:
                        "Borgnakke exchange can reach for "
                        f"{self.gas}: one molecule of every pair relaxes in every collision, "
                        "so rotation relaxes more slowly than Z_rot says")
+        for name, lam in zip(self.species, self.species_mean_free_path_m):
+            ratio = max(self.cell_dx_m, self.cell_dy_m) / lam
+            if ratio > LIMIT_CELL_OVER_MFP * 1.05 and lam < 0.7 * self.mean_free_path_m:
+                out.append(f"{name} loses its momentum within {lam * 1e3:.3g} mm, less than "
+                           f"the mixture's mean free path: cells are {ratio:.2f} of it "
+                           f"(usual limit {LIMIT_CELL_OVER_MFP:.2f}); refine "
+                           f"resolution.cell_size if {name}'s transport matters")
         floor = self.rot_floor_temperature_k
         if self.rotation == "parker" and floor > 0.5 * self.reference_temperature_k:
             out.append(f"below {floor:.3g} K Parker's Z_rot for {self.gas} is smaller than "
@@ -283,10 +294,23 @@ def _resolve(case: Case) -> Plan:
     p_ref, t_ref, src = reference_state(case)
     n_ref = kinetic.number_density(p_ref, t_ref)
     mfp = kinetic.mean_free_path(model, n_ref, t_ref)
+    mu = kinetic.viscosity(model, t_ref)
+    mix = mixture_of(case.gas)
+    species_mfp = ()
     cbar = kinetic.mean_speed(m, t_ref)
     vmp = kinetic.most_probable_speed(m, t_ref)
     tau = mfp / cbar
-    mu = kinetic.viscosity(model, t_ref)
+    if mix.nspecies > 1:
+        # mean mass, mixture mean free path and Wilke viscosity for the similarity
+        # numbers; the collision time from every pair's rate; the lightest species'
+        # mean speed for the time step and the heaviest's for the settling transit
+        m = mix.mean_mass()
+        mfp = float(mix.mean_free_path(n_ref, t_ref))
+        species_mfp = tuple(float(v) for v in mix.momentum_mean_free_paths(n_ref, t_ref))
+        mu = mix.viscosity(t_ref)
+        tau = mix.collision_time(n_ref, t_ref)
+        cbar = kinetic.mean_speed(float(mix.masses.min()), t_ref)
+        vmp = kinetic.most_probable_speed(float(mix.masses.max()), t_ref)
     length = characteristic_length(case)
     d = case.domain
     lx, ly = d.xmax - d.xmin, d.ymax - d.ymin
@@ -346,8 +370,10 @@ def _resolve(case: Case) -> Plan:
     batches = min(batches, sample)
     subcells = res.subcells or DEFAULT_SUBCELLS
 
+    light = float(mix.masses.min())
     return Plan(
-        gas=sp.name, model=model.kind, mass_kg=m,
+        gas="+".join(mix.names), model=model.kind, mass_kg=m,
+        species=mix.names, mole_fractions=mix.fractions, species_mean_free_path_m=species_mfp,
         reference_pressure_pa=p_ref, reference_temperature_k=t_ref,
         reference_number_density_m3=n_ref, reference_source=src,
         mean_free_path_m=mfp, collision_time_s=tau, viscosity_pa_s=mu, mean_speed_m_s=cbar,
@@ -357,7 +383,7 @@ def _resolve(case: Case) -> Plan:
         particle_weight=fnum, particles_per_cell=ppc, settle_steps=settle,
         sample_steps=sample, batches=batches,
         expected_particles=ppc * nx * ny, **_internal(case, sp, model, t_ref, chosen),
-        chosen=chosen, histogram_speed_max_m_s=histogram_speed_max(case, m),
+        chosen=chosen, histogram_speed_max_m_s=histogram_speed_max(case, light),
         histogram_bins=case.histograms.bins or DEFAULT_HISTOGRAM_BINS,
     )
 
@@ -400,7 +426,10 @@ def format_plan(plan: Plan) -> str:
     """The plan as text, with resolution diagnostics and warnings."""
     src = plan.chosen
     lines = [
-        f"gas                    {plan.gas} ({plan.model.upper()})",
+        f"gas                    {plan.gas} ({plan.model.upper()})" + (
+            "; mole fractions " + ", ".join(f"{n} {x:.4g}" for n, x in
+                                            zip(plan.species, plan.mole_fractions))
+            if len(plan.species) > 1 else ""),
         f"reference state        {plan.reference_pressure_pa:.4g} Pa, "
         f"{plan.reference_temperature_k:.4g} K ({plan.reference_source})",
         f"mean free path         {plan.mean_free_path_m * 1e3:.4g} mm",

@@ -55,11 +55,16 @@ class Progress:
             return ""
         acc = sim.acc
         nb = acc.batch
-        net = acc.flux[:nb, self.plane, F_N_POS] - acc.flux[:nb, self.plane, F_N_NEG]
         mirrored = bool(sim.geom.plane_mirrored[self.plane])
-        flow = net.mean() * sim.fnum * (2.0 if mirrored else 1.0) * sim.mass \
+        if acc.nspecies == 1:
+            net = acc.flux[:nb, self.plane, F_N_POS] - acc.flux[:nb, self.plane, F_N_NEG]
+            mass = sim.mass
+        else:          # a mixture: its species' rows, each with its mass
+            net = acc.net_flow(self.plane, sim.masses)
+            mass = 1.0
+        flow = net.mean() * sim.fnum * (2.0 if mirrored else 1.0) * mass \
             / (acc.steps_per_batch * sim.dt)
-        rel = acc.relative_error(self.plane)
+        rel = acc.relative_error(self.plane, sim.masses)
         return f" | {self.plane_name} {flow:.4g} kg/s ± {100 * rel:.2g} %"
 
     def __call__(self, phase: str, done: int, total: int, sim) -> None:

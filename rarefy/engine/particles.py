@@ -68,11 +68,6 @@ class ParticleStore:
             self.state[row, sl] = arr
         self.n += k
 
-    @property
-    def internal(self) -> np.ndarray:
-        """The internal-energy rows (0, 1 or 2 of them) as one 2-D view."""
-        return self.state[NVAR:]
-
     def swap(self) -> None:
         self.state, self.spare = self.spare, self.state
 

@@ -34,7 +34,8 @@ from rarefy.kernels.rng import run_key, step_key
 from rarefy.kernels.sample import sample_probes
 from rarefy.threads import run_parallel
 from rarefy.plan import Plan
-from rarefy.post.fields import fields_from_moments
+from rarefy.gas.mixture import mixture_of
+from rarefy.post.fields import cell_fields
 from rarefy.sampling.accumulators import Accumulators
 
 __all__ = ["Simulation", "PHASES", "RunStopped", "RESEED_EVERY"]
@@ -86,9 +87,20 @@ class Simulation:
         g = self.geom
         sp = get_species(case.gas.species)
         self.model = sp.model(case.gas.model)
-        self.mass = sp.mass_kg
+        self.mass = plan.mass_kg     # of a mixture, the mean at its fractions
         self.ip = kernel_parameters(plan, self.model, sp, case.gas.vibration_number)
         self.n_internal = internal_rows(plan)
+        # mixtures (rarefy.gas.mixture): species row after the internal rows; masses over
+        # the plan's mean mass; walls' sqrt(kT/m) scaled per species
+        self.mix = mixture_of(case.gas)
+        self.nsp = self.mix.nspecies
+        self.masses = self.mix.masses if self.nsp > 1 else np.array([self.mass])
+        self.mass_ratio = self.masses / plan.mass_kg if self.nsp > 1 else np.ones(1)
+        self.sigma_factor = np.sqrt(plan.mass_kg / self.masses) if self.nsp > 1 \
+            else np.ones(1)
+        self.pair = self.mix.sigma_cr_coefficients() if self.nsp > 1 else \
+            (np.zeros((1, 1)), np.zeros((1, 1)), np.ones((1, 1)))
+        self._no_species = np.zeros(1)
         self.dt = plan.time_step_s
         self.fnum = plan.particle_weight
         self.axi = g.axisymmetric
@@ -103,6 +115,10 @@ class Simulation:
         self.exponent = 2.0 - 2.0 * self.model.omega
         vmp_ref = kinetic.most_probable_speed(self.mass, plan.reference_temperature_k)
         self.sigcr_max = np.full(g.ncell, self.a_coef * (3.0 * vmp_ref) ** self.exponent)
+        if self.nsp > 1:   # the largest pair's, at 3 v_mp of the lightest pair
+            a, e, _ = self.pair
+            light = kinetic.most_probable_speed(self.masses.min(), plan.reference_temperature_k)
+            self.sigcr_max[:] = float(np.max(a * (3.0 * light) ** e))
         self.remainder = np.zeros(g.ncell)
         self.coll_stats = np.zeros(3)
         self.nudge = 1e-12 * max(g.box[1] - g.box[0], g.box[3] - g.box[2])
@@ -113,20 +129,21 @@ class Simulation:
         # sized by the initial fill (ParticleStore.add) and grown as the flow fills the
         # domain; the plan's estimate (the whole domain at the reference density) is far
         # above what open cases hold
-        self.store = ParticleStore(self.inflow_max + 1024, NVAR + self.n_internal)
+        self.store = ParticleStore(self.inflow_max + 1024,
+                                   NVAR + self.n_internal + (self.nsp > 1))
         self.clock = Clock()
         steps_per_batch = max(1, plan.sample_steps // plan.batches)
         self.probes = build_probes(case, g)
         nbins = plan.histogram_bins
         self.speed_max = plan.histogram_speed_max_m_s
         self.acc = Accumulators(g.ncell, len(g.facet_owner), len(g.plane_names), plan.batches,
-                                steps_per_batch, len(self.probes), nbins)
+                                steps_per_batch, len(self.probes), nbins, self.nsp)
         # flux-plane rows for the move kernels: end points, histogram bins per m/s, bins
         self.plane_rows = np.hstack([
             g.planes, np.full((len(g.planes), 1), nbins / self.speed_max),
             np.full((len(g.planes), 1), float(nbins))])
         self._no_flux = np.zeros(self.acc.flux.shape[1:])
-        self._dummy_surf = np.zeros((len(g.facet_owner), N_SURF_TALLY))
+        self._dummy_surf = np.zeros((len(g.facet_owner) * self.nsp, N_SURF_TALLY))
         self.detector = SteadyDetector()
         self.stop_check: Callable[[], bool] | None = None
         self._window_particles = 0.0
@@ -145,22 +162,21 @@ class Simulation:
         rows = []
         pos = {"xmin": d.xmin, "xmax": d.xmax, "ymin": d.ymin, "ymax": d.ymax}
         inward = {"xmin": (1, 0), "xmax": (-1, 0), "ymin": (0, 1), "ymax": (0, -1)}
-        for b in self.case.boundaries:
-            if b.kind != "reservoir":
-                continue
-            n = b.pressure_pa / (K_B * b.temperature_k)
-            vmp = kinetic.most_probable_speed(self.mass, b.temperature_k)
+        for b, k, x in self._reservoir_species():
+            n = x * b.pressure_pa / (K_B * b.temperature_k)
+            mass = self.masses[k]
+            vmp = kinetic.most_probable_speed(mass, b.temperature_k)
             ex, ey = inward[b.side]
             un = b.velocity_m_s[0] * ex + b.velocity_m_s[1] * ey
-            flux = kinetic.one_way_number_flux(n, b.temperature_k, self.mass, un)
+            flux = kinetic.one_way_number_flux(n, b.temperature_k, mass, un)
             head = (SIDES.index(b.side), pos[b.side], vmp, *b.velocity_m_s)
             if not self.axi:
                 per_step = flux * (b.end - b.start) * d.depth_m * self.dt / self.fnum
-                rows.append((head[0], b.start, b.end, *head[1:], 0.0, per_step))
+                rows.append((head[0], b.start, b.end, *head[1:], 0.0, k, per_step))
             elif b.side == "ymax":
                 area = 2.0 * math.pi * d.ymax * (b.end - b.start)
                 per_step = flux * area * self.dt / (self.fnum * g.row_weight[-1])
-                rows.append((head[0], b.start, b.end, *head[1:], 0.0, per_step))
+                rows.append((head[0], b.start, b.end, *head[1:], 0.0, k, per_step))
             else:  # end disk: one row per radial row of cells, each with its weight
                 edges = np.arange(g.ny + 1) * g.dy
                 a = np.maximum(b.start, edges[:-1])
@@ -168,9 +184,20 @@ class Simulation:
                 keep = c > a
                 per_step = (flux * math.pi * (c * c - a * a) * self.dt
                             / (self.fnum * g.row_weight))[keep]
-                rows += [(head[0], lo, hi, *head[1:], 1.0, rate)
+                rows += [(head[0], lo, hi, *head[1:], 1.0, k, rate)
                          for lo, hi, rate in zip(a[keep], c[keep], per_step)]
         return np.array(rows, dtype=np.float64).reshape(-1, N_INFLOW_COLS)
+
+    def _reservoir_species(self):
+        """(reservoir piece, species index, mole fraction) of every species a reservoir
+        supplies; a pure gas: (piece, 0, 1.0)."""
+        for b in self.case.boundaries:
+            if b.kind != "reservoir":
+                continue
+            fractions = b.mole_fractions or self.mix.fractions
+            for k, x in enumerate(fractions):
+                if x > 0.0:
+                    yield b, k, x
 
     def add_particles(self, x, y, vx, vy, vz, *internal) -> None:
         """Add particles (arrays, SI; then the internal energies per unit mass, m^2/s^2,
@@ -216,12 +243,18 @@ class Simulation:
             count = rng.poisson(n * lx * (g.box[3] - g.box[2]) * g.depth / self.fnum)
             y = rng.uniform(g.box[2], g.box[3], count)
         sig = math.sqrt(K_B * init.temperature_k / self.mass)
+        species = []
+        if self.nsp > 1:   # each molecule's species drawn by the mole fractions
+            spc = rng.choice(self.nsp, count, p=init.mole_fractions or self.mix.fractions)
+            sig = np.sqrt(K_B * init.temperature_k / self.masses)[spc]
+            species = [spc.astype(np.float64)]
         u = init.velocity_m_s
         self.add_particles(rng.uniform(g.box[0], g.box[1], count), y,
                            u[0] + sig * rng.standard_normal(count),
                            u[1] + sig * rng.standard_normal(count),
                            u[2] + sig * rng.standard_normal(count),
-                           *self.equilibrium_internal(rng, count, init.temperature_k))
+                           *self.equilibrium_internal(rng, count, init.temperature_k),
+                           *species)
 
     def _index(self) -> None:
         st, g = self.store, self.geom
@@ -250,9 +283,9 @@ class Simulation:
         room = n0 + self.inflow_max
         st.reserve(room + (max(4096, room // 4) if self.axi else 0))
         s = st.state
-        eint = s[NVAR:]
-        n1 = inject(self.inflow, n0, s[X], s[Y], s[VX], s[VY], s[VZ], eint, self.ip,
-                    self.tfrac) if len(self.inflow) else n0
+        eint, spc = self._views(s)
+        n1 = inject(self.inflow, n0, s[X], s[Y], s[VX], s[VY], s[VZ], eint, self.ip, spc,
+                    self.nsp, self.tfrac) if len(self.inflow) else n0
         st.n = n1
         t1 = time.perf_counter()
         stally = acc.surf[acc.batch] if sampling else self._dummy_surf
@@ -263,7 +296,7 @@ class Simulation:
         if self.axi:
             st.n, lost = (move_all_axi_par if par else move_all_axi)(
                 n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], eint, self.ip,
-                st.key, g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows,
+                spc, self.sigma_factor, st.key, g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows,
                 stally, ftally, tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free,
                 g.row_weight,
                 st.capacity, self.row_balance, mkey)
@@ -271,7 +304,7 @@ class Simulation:
         else:
             (move_all_par if par else move_all)(
                 n1, n0, self.tfrac, self.dt, s[X], s[Y], s[VX], s[VY], s[VZ], eint, self.ip,
-                st.key, g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows,
+                spc, self.sigma_factor, st.key, g.segs, g.seg_tally, g.box, g.pieces, g.piece_int, self.plane_rows,
                 stally, ftally, tally, self.nudge, g.nx, g.ny, g.dx, g.dy, self.nsub, g.free,
                 mkey)
         t2 = time.perf_counter()
@@ -283,10 +316,11 @@ class Simulation:
             tc = time.perf_counter()
             ph["sample"] += tc - t3
         self.coll_stats[:] = 0.0
+        eint, spc = self._views(s)
         (collide_cells_par if par else collide_cells)(
             g.ncell, self.nsub, self.key_start, s[X], s[Y], s[VX], s[VY], s[VZ], g.volume,
             self.sigcr_max, self.remainder, self.cell_fnum, self.dt, self.a_coef,
-            self.exponent, self.model.alpha, s[NVAR:], self.ip,
+            self.exponent, self.model.alpha, eint, self.ip, spc, self.mass_ratio, *self.pair,
             step_key(self.rng_key, self.clock.step, SALT_COLLIDE), acc.cell_batch, sampling,
             self.coll_stats)
         t4 = time.perf_counter()
@@ -302,18 +336,24 @@ class Simulation:
         self.clock.time_s += self.dt
         self.clock.particle_steps += st.n
 
+    def _views(self, s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(internal-energy rows, species row) of the state ``s``; a pure gas has no
+        species row (a dummy stands in, never read)."""
+        eint = s[NVAR:NVAR + self.n_internal]
+        return eint, (s[NVAR + self.n_internal] if self.nsp > 1 else self._no_species)
+
     def _sample_probes(self, s: np.ndarray, weight: float) -> None:
         """Probe sums and histograms of the sorted particles, with ``weight`` (the cell
         moments are sampled inside the collision kernel)."""
         g, acc, pr = self.geom, self.acc, self.probes
         sample_probes(pr.box, pr.cells, pr.cell_start, self.nsub, self.key_start,
-                      self.cell_weight, s[X], s[Y], s[VX], s[VY], s[VZ], s[NVAR:],
-                      self.speed_max,
+                      self.cell_weight, s[X], s[Y], s[VX], s[VY], s[VZ], *self._views(s),
+                      self.nsp, self.speed_max,
                       acc.probe_mom[acc.batch], acc.probe_hist[acc.batch], weight)
 
     def _batch_fields(self, sums: np.ndarray, nsteps: int) -> dict:
-        return fields_from_moments(sums, nsteps, self.geom.volume, self.mass, self.cell_fnum,
-                                   self.plan.rot_dof, self.plan.theta_vib_k)
+        return cell_fields(sums, nsteps, self.geom.volume, self.masses, self.cell_fnum,
+                           self.plan.rot_dof, self.plan.theta_vib_k, self.mix.names)
 
     def _after_step(self, phase: str, done: int, total: int, progress, every: int,
                     checkpoint) -> None:
@@ -381,7 +421,7 @@ class Simulation:
                                  every, checkpoint)
             if target_error is None:
                 return self.acc
-            rel = self.acc.relative_error(plane)
+            rel = self.acc.relative_error(plane, self.masses)
             if rel <= target_error:
                 self.stop_reason = f"target error reached ({rel:.3g} <= {target_error:g})"
                 return self.acc

@@ -18,13 +18,17 @@ Layout (format ``rarefy-result-2``; dimensions in brackets):
 /y_node [y_node]
 /volume [y, x]         cell volumes (m^3; 0 inside solids)
 /row_weight [y]        particle weight factor per cell row
-/NAME [y, x]           cell fields (``FIELD_UNITS``); ``NAME_stderr``: batch-means
-                       standard error (NaN with fewer than two batches)
+/NAME [y, x]           cell fields (``field_unit``: a mixture adds number_density_SP,
+                       mole_fraction_SP, velocity_x_SP, velocity_y_SP per species SP);
+                       ``NAME_stderr``: batch-means standard error (NaN with fewer than
+                       two batches)
 /batch, /facet, ...    dimensions without values (netCDF "dimension but not variable"):
                        batch, facet, plane, probe, segment, xy, end_point_coordinate,
                        rectangle_side, speed_edge, bin, histogram, moment, probe_moment,
-                       surface_tally_column, flux_tally_column, collision_column
+                       surface_tally_column, flux_tally_column, collision_column, species
 /case/text             the case file as given (string)
+/gas/                  species [species] (string; one entry, the gas, for a pure gas),
+                       mass [species] (kg)
 /surfaces/             owner [facet] (string), centre [facet, xy], normal [facet, xy],
                        area [facet]
 /flux_planes/          name [plane] (string), points [plane, end_point_coordinate],
@@ -39,7 +43,11 @@ Layout (format ``rarefy-result-2``; dimensions in brackets):
                        probe_moments [batch, probe, probe_moment], probe_histograms
                        [batch, probe, histogram, bin] (the last bin collects what falls
                        outside), collisions [batch, collision_column], particles [batch];
-                       a ``columns`` attribute names each column
+                       a ``columns`` attribute names each column. A mixture's tallies
+                       have a species dimension after facet, plane, probe or x:
+                       cell_total [y, x, species, moment], surface_tally [batch, facet,
+                       species, ...], flux_tally [batch, plane, species, ...], probe
+                       sums [batch, probe, species, ...]
 
 Strings are variable-length UTF-8 (netCDF ``string``); flags are 0/1 integers.
 
@@ -61,7 +69,8 @@ import numpy as np
 
 from rarefy import __version__
 from rarefy.io.atomic import atomic_path
-from rarefy.post.fields import FIELD_UNITS, fields_from_moments
+from rarefy.kernels.config import T_HITS
+from rarefy.post.fields import cell_fields, field_unit
 
 __all__ = ["RESULT_NAME", "FORMAT", "ResultData", "ResultFormatError", "write_result",
            "read_result"]
@@ -152,6 +161,18 @@ class ResultData:
     probe_mom: np.ndarray = None       # [batch, probe, PM_*]
     probe_hist: np.ndarray = None      # [batch, probe, H_*, bins + 1]
     speed_edges: np.ndarray = None     # bin edges of the speed histograms (m/s)
+    # mixtures: the species and their masses; flux-plane rows are the whole gas
+    # (plane_species -1) followed by one row per species; probe rows one per species
+    species: list = dataclass_field(default_factory=list)
+    species_mass: np.ndarray = None
+    plane_species: list = None
+    plane_index: list = None
+    probe_species: list = None
+    probe_index: list = None
+
+    def row_mass(self, k: int) -> float:
+        """Molecular mass (kg) of species k; the gas's (mean) mass for k < 0."""
+        return float(self.species_mass[k]) if k >= 0 else float(self.attrs["mass_kg"])
 
     @property
     def histogram_bins(self) -> int:
@@ -228,8 +249,9 @@ def _write(tmp: Path, sim, interrupted: bool, status: str | None) -> None:
     acc, geom, plan = sim.acc, sim.geom, sim.plan
     nb = acc.batch
     nsteps = max(1, nb * acc.steps_per_batch)
-    fields = fields_from_moments(acc.cell_total, nsteps, geom.volume, sim.mass, sim.cell_fnum,
-                                 plan.rot_dof, plan.theta_vib_k)
+    fields = cell_fields(acc.cell_total, nsteps, geom.volume, sim.masses, sim.cell_fnum,
+                         plan.rot_dof, plan.theta_vib_k, sim.mix.names)
+    nsp = sim.nsp
     axisymmetric = sim.case.domain.geometry == "axisymmetric"
     with h5py.File(tmp, "w") as f:
         f.attrs.update(
@@ -270,11 +292,12 @@ def _write(tmp: Path, sim, interrupted: bool, status: str | None) -> None:
                            ("end_point_coordinate", 4), ("rectangle_side", 4),
                            ("speed_edge", nbins + 1), ("bin", nbins + 1),
                            ("histogram", acc.probe_hist.shape[2]),
-                           ("moment", acc.cell_total.shape[1]),
+                           ("moment", acc.cell_total.shape[1] // nsp),
                            ("probe_moment", acc.probe_mom.shape[2]),
                            ("surface_tally_column", acc.surf.shape[2]),
                            ("flux_tally_column", acc.flux.shape[2]),
-                           ("collision_column", acc.collisions.shape[1])):
+                           ("collision_column", acc.collisions.shape[1]),
+                           ("species", nsp)):
             w.dimension(name, size)
         yx = ("y", "x")
         w.variable(f, "volume", geom.volume.reshape(geom.ny, geom.nx), yx, "m^3",
@@ -285,12 +308,20 @@ def _write(tmp: Path, sim, interrupted: bool, status: str | None) -> None:
             err = acc.field_stderr(name) if nb >= 2 and name in acc.field_sum \
                 else np.full_like(value, np.nan)
             long_name = FIELD_LONG_NAMES.get(name, name.replace("_", " "))
-            w.variable(f, name, value.reshape(geom.ny, geom.nx), yx, FIELD_UNITS[name],
+            w.variable(f, name, value.reshape(geom.ny, geom.nx), yx, field_unit(name),
                        long_name, ancillary_variables=name + "_stderr")
             w.variable(f, name + "_stderr", err.reshape(geom.ny, geom.nx), yx,
-                       FIELD_UNITS[name], "standard error of the " + long_name)
+                       field_unit(name), "standard error of the " + long_name)
         w.variable(f.create_group("case"), "text", sim.case.source_text, (), "1",
                    "the case file as given", text=True)
+        gg = f.create_group("gas")
+        w.variable(gg, "species", list(sim.mix.names) if nsp > 1 else [plan.gas],
+                   ("species",), "1", "the species, in the order of their index", text=True)
+        w.variable(gg, "mass", sim.masses, ("species",), "kg", "molecular mass")
+        sp_dim = ("species",) if nsp > 1 else ()
+
+        def per_species(a, rows):   # [batch, rows * nsp, ...] -> [batch, rows, nsp, ...]
+            return a.reshape(a.shape[0], rows, nsp, *a.shape[2:]) if nsp > 1 else a
         sg = f.create_group("surfaces")
         w.variable(sg, "owner", geom.facet_owner, ("facet",), "1",
                    "wall or boundary the facet belongs to", text=True)
@@ -323,21 +354,26 @@ def _write(tmp: Path, sim, interrupted: bool, status: str | None) -> None:
                    "m", "wall segments x0, y0, x1, y1")
         raw = f.create_group("raw")
         mixed = "SI, per column (see columns)"
-        w.variable(raw, "cell_total", acc.cell_total.reshape(geom.ny, geom.nx, -1),
-                   yx + ("moment",), mixed, "sums over the sampled steps of the particles' "
+        w.variable(raw, "cell_total",
+                   acc.cell_total.reshape(geom.ny, geom.nx, *((nsp,) if nsp > 1 else ()),
+                                          -1),
+                   yx + sp_dim + ("moment",), mixed, "sums over the sampled steps of the particles' "
                    "velocity moments per cell", columns=MOMENT_COLUMNS)
-        w.variable(raw, "surface_tally", acc.surf[:nb], ("batch", "facet",
-                   "surface_tally_column"), mixed, "per batch and facet: wall hits and "
-                   "momentum and energy sums", columns=SURFACE_COLUMNS)
-        w.variable(raw, "flux_tally", acc.flux[:nb], ("batch", "plane", "flux_tally_column"),
+        w.variable(raw, "surface_tally", per_species(acc.surf[:nb], len(geom.facet_owner)),
+                   ("batch", "facet", *sp_dim, "surface_tally_column"), mixed,
+                   "per batch and facet: wall hits and momentum and energy sums",
+                   columns=SURFACE_COLUMNS)
+        w.variable(raw, "flux_tally", per_species(acc.flux[:nb], len(geom.plane_names)),
+                   ("batch", "plane", *sp_dim, "flux_tally_column"),
                    mixed, "per batch and flux plane: crossings, speed sums and speed "
                    "histograms", columns=FLUX_COLUMNS)
-        w.variable(raw, "probe_moments", acc.probe_mom[:nb], ("batch", "probe",
-                   "probe_moment"), mixed, "per batch and probe: weighted velocity sums",
-                   columns=PROBE_MOMENT_COLUMNS)
-        w.variable(raw, "probe_histograms", acc.probe_hist[:nb], ("batch", "probe",
-                   "histogram", "bin"), "1", "per batch and probe: weighted counts of "
-                   "speed, vx, vy, vz per bin", columns=HISTOGRAM_ROWS)
+        w.variable(raw, "probe_moments", per_species(acc.probe_mom[:nb], len(pr.names)),
+                   ("batch", "probe", *sp_dim, "probe_moment"), mixed,
+                   "per batch and probe: weighted velocity sums", columns=PROBE_MOMENT_COLUMNS)
+        w.variable(raw, "probe_histograms", per_species(acc.probe_hist[:nb], len(pr.names)),
+                   ("batch", "probe", *sp_dim, "histogram", "bin"), "1",
+                   "per batch and probe: weighted counts of speed, vx, vy, vz per bin",
+                   columns=HISTOGRAM_ROWS)
         w.variable(raw, "collisions", acc.collisions[:nb], ("batch", "collision_column"),
                    mixed, "per batch: collision tallies", columns=COLLISION_COLUMNS)
         w.variable(raw, "particles", acc.particles[:nb], ("batch",), "1",
@@ -372,7 +408,7 @@ def read_result(path: str | Path) -> ResultData:
         attrs["interrupted"] = bool(attrs.get("interrupted", 0))
         names = str(attrs.get("cell_fields", "")).split()
         ny, nx = f["volume"].shape
-        return ResultData(
+        data = ResultData(
             path=str(path), attrs=attrs, plan=json.loads(attrs["plan"]),
             case_text=_strings(f["case/text"])[0],
             x=f["x"][()], y=f["y"][()], volume=f["volume"][()],
@@ -391,6 +427,57 @@ def read_result(path: str | Path) -> ResultData:
             walls=[tuple(s) for s in f["walls/segments"][()]],
             **_probe_data(f),
         ) if nx * ny else None
+        if data is not None:
+            species = _strings(f["gas/species"]) if "gas" in f else [attrs.get("gas", "")]
+            masses = f["gas/mass"][()] if "gas" in f else np.array([attrs["mass_kg"]])
+            _arrange_species(data, species, masses)
+        return data
+
+
+def _arrange_species(r: ResultData, species: list, masses: np.ndarray) -> None:
+    """Per-species tallies of a mixture as rows the post-processing reads: surfaces summed
+    (momentum and energy weighted by m_k / m_mean, as for a pure gas of the mean mass),
+    flux planes as the whole gas then one row per species ("throat He"), probes one row
+    per species ("jet He")."""
+    r.species, r.species_mass = list(species), np.asarray(masses, dtype=float)
+    nplane, nprobe = len(r.plane_names), len(r.probe_names)
+    r.plane_species, r.plane_index = [-1] * nplane, list(range(nplane))
+    r.probe_species, r.probe_index = [-1] * nprobe, list(range(nprobe))
+    nsp = len(species)
+    if nsp < 2:
+        return
+    w = r.species_mass / float(r.attrs["mass_kg"])
+    weight = np.ones((nsp, r.surf.shape[-1])) * w[:, None]
+    weight[:, T_HITS] = 1.0
+    r.surf = (r.surf * weight).sum(axis=2)
+    rows, names, pidx, psp = [], [], [], []
+    for p, name in enumerate(r.plane_names):
+        rows.append(r.flux[:, p].sum(axis=1))
+        names.append(name)
+        pidx.append(p)
+        psp.append(-1)
+        for k, sp in enumerate(species):
+            rows.append(r.flux[:, p, k])
+            names.append(f"{name} {sp}")
+            pidx.append(p)
+            psp.append(k)
+    r.flux = np.stack(rows, axis=1) if rows else r.flux[:, :, 0]
+    r.plane_names, r.plane_index, r.plane_species = names, pidx, psp
+    r.plane_points = r.plane_points[pidx]
+    r.plane_mirrored = r.plane_mirrored[pidx]
+    r.plane_area = r.plane_area[pidx]
+    q_idx = [q for q in range(nprobe) for _ in range(nsp)]
+    r.probe_species = [k for _ in range(nprobe) for k in range(nsp)]
+    r.probe_names = [f"{r.probe_names[q]} {species[k]}"
+                     for q, k in zip(q_idx, r.probe_species)]
+    r.probe_index = q_idx
+    r.probe_mom = r.probe_mom.reshape(r.probe_mom.shape[0], nprobe * nsp,
+                                      *r.probe_mom.shape[3:])
+    r.probe_hist = r.probe_hist.reshape(r.probe_hist.shape[0], nprobe * nsp,
+                                        *r.probe_hist.shape[3:])
+    r.probe_box = r.probe_box[q_idx]
+    r.probe_volume = r.probe_volume[q_idx]
+    r.probe_direction = [r.probe_direction[q] for q in q_idx]
 
 
 def _probe_data(f) -> dict:

@@ -41,7 +41,7 @@ from rarefy.kernels.config import (
 )
 from rarefy.kernels.internal import cell_probabilities, exchange
 from rarefy.kernels.rng import stream, uniform, unit_disk
-from rarefy.kernels.sample import add_cell_moments
+from rarefy.kernels.sample import add_cell_moments, add_cell_moments_mixed
 
 
 @njit(inline="always", **JIT)
@@ -80,9 +80,47 @@ def cell_temperature(lo, hi, vx, vy, vz, m_over_k):
     return m_over_k * var / 3.0
 
 
+@njit(inline="always", **JIT)
+def _moments(lo, hi, vx, vy, vz, eint, spc, nsp, moments, c, weight):
+    if nsp > 1:
+        add_cell_moments_mixed(lo, hi, vx, vy, vz, spc, moments, c, weight)
+    else:
+        add_cell_moments(lo, hi, vx, vy, vz, eint, moments, c, weight)
+
+
+@njit(inline="always", **JIT)
+def _collide_mixed(s, i, j, urx, ury, urz, cr, vx, vy, vz, spc, mr, a_pair, e_pair, al_pair,
+                   cmax):
+    """One candidate pair of a mixture: accept with sigma_pq c_r / (sigma c_r)_max and
+    scatter about the centre of mass (masses m_p, m_q). Returns (counter, sigma c_r if
+    accepted, else -sigma c_r)."""
+    p = int(spc[i])
+    q = int(spc[j])
+    sigcr = a_pair[p, q] * cr ** e_pair[p, q]
+    s, r = uniform(s)
+    if r * max(cmax, sigcr) > sigcr:
+        return s, -sigcr
+    mi = mr[p]
+    mj = mr[q]
+    msum = mi + mj
+    cmx = (mi * vx[i] + mj * vx[j]) / msum
+    cmy = (mi * vy[i] + mj * vy[j]) / msum
+    cmz = (mi * vz[i] + mj * vz[j]) / msum
+    s, nx, ny, nz = scatter(s, urx, ury, urz, cr, al_pair[p, q])
+    fi = mj / msum
+    fj = mi / msum
+    vx[i] = cmx + fi * nx
+    vy[i] = cmy + fi * ny
+    vz[i] = cmz + fi * nz
+    vx[j] = cmx - fj * nx
+    vy[j] = cmy - fj * ny
+    vz[j] = cmz - fj * nz
+    return s, sigcr
+
+
 def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
-                  cell_fnum, dt, a_coef, exponent, alpha, eint, ip, rng_key, moments,
-                  sampling, stats):
+                  cell_fnum, dt, a_coef, exponent, alpha, eint, ip, spc, mr, a_pair, e_pair,
+                  al_pair, rng_key, moments, sampling, stats):
     """NTC collisions in every cell; with ``sampling``, also the cell moments.
 
     Parameters
@@ -94,12 +132,20 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
     a_coef, exponent : sigma_T c_r = a_coef * c_r**exponent (m^3/s).
     eint : float64[rows, capacity], internal energies per unit mass (rows: rotation, then
         vibration; none for a monatomic gas); ``ip`` their parameters (``IP_*``).
+    spc, mr, a_pair, e_pair, al_pair : mixtures of nsp = len(mr) > 1 species: the
+        species row, the masses over the reference mass, and per pair (p, q) the
+        sigma_T c_r coefficient, exponent and VSS alpha (``rarefy.gas.mixture``; one
+        species: a_coef, exponent, alpha apply and these are not read).
     rng_key : uint64, this step's key of the per-cell random streams.
-    moments : float64[ncell, N_MOMENTS] receives half the moments before and half after
-        the collisions when ``sampling``.
-    stats : float64[3] accumulates (collisions, sum of pair separations (m), candidates).
+    moments : float64[ncell, nsp * N_MOMENTS] receives half the moments before and half
+        after the collisions when ``sampling`` (species k in columns k * N_MOMENTS + M_*).
+    stats : float64[3] accumulates (collisions, sum of pair separations (m), candidates);
+        a longer array also counts collisions per pair p * nsp + q at 3 + (p the species
+        of the molecule drawn first; per cell, then summed in cell order).
     """
     ns2 = nsub * nsub
+    nsp = mr.shape[0]
+    pairs = stats.shape[0] > 3
     hard = exponent == 1.0
     inner = ip[IP_ROT_DOF] > 0.0
     per_cell = inner and (ip[IP_ROT_MODE] == 1.0 or (ip[IP_VIB_TH] > 0.0
@@ -107,15 +153,16 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
     n_coll = 0.0                  # whole numbers: their parallel sum is exact
     n_cand = 0.0
     sep_cell = np.zeros(ncell)    # summed in cell order below, whatever the threads
+    pair_cell = np.zeros((ncell if pairs else 1, nsp * nsp))
     for c in prange(ncell):
         lo = key_start[c * ns2]
         hi = key_start[(c + 1) * ns2]
         npart = hi - lo
         if sampling and npart > 0:
-            add_cell_moments(lo, hi, vx, vy, vz, eint, moments, c, 0.5)
+            _moments(lo, hi, vx, vy, vz, eint, spc, nsp, moments, c, 0.5)
         if npart < 2 or volume[c] <= 0.0:
             if sampling and npart > 0:
-                add_cell_moments(lo, hi, vx, vy, vz, eint, moments, c, 0.5)
+                _moments(lo, hi, vx, vy, vz, eint, spc, nsp, moments, c, 0.5)
             continue
         expected = 0.5 * npart * (npart - 1) * cell_fnum[c] * sigcr_max[c] * dt / volume[c] \
             + remainder[c]
@@ -160,12 +207,28 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
             cr = np.sqrt(urx * urx + ury * ury + urz * urz)
             if cr == 0.0:
                 continue
+            if nsp > 1:
+                s, ok = _collide_mixed(s, i, j, urx, ury, urz, cr, vx, vy, vz, spc, mr,
+                                       a_pair, e_pair, al_pair, cmax)
+                if ok < 0.0:        # rejected; -ok is sigma c_r (the maximum may rise)
+                    cmax = max(cmax, -ok)
+                    continue
+                cmax = max(cmax, ok)
+                if pairs:
+                    pair_cell[c, int(spc[i]) * nsp + int(spc[j])] += 1.0
+                c_coll += 1
+                dxs = x[i] - x[j]
+                dys = y[i] - y[j]
+                c_sep += np.sqrt(dxs * dxs + dys * dys)
+                continue
             sigcr = a_coef * cr if hard else a_coef * cr ** exponent
             if sigcr > cmax:
                 cmax = sigcr
             s, r = uniform(s)
             if r * cmax > sigcr:
                 continue
+            if pairs:
+                pair_cell[c, 0] += 1.0
             cmx = 0.5 * (vx[i] + vx[j])
             cmy = 0.5 * (vy[i] + vy[j])
             cmz = 0.5 * (vz[i] + vz[j])
@@ -191,7 +254,7 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
             c_sep += np.sqrt(dxs * dxs + dys * dys)
         sigcr_max[c] = cmax
         if sampling:
-            add_cell_moments(lo, hi, vx, vy, vz, eint, moments, c, 0.5)
+            _moments(lo, hi, vx, vy, vz, eint, spc, nsp, moments, c, 0.5)
         n_coll += c_coll
         sep_cell[c] = c_sep
         n_cand += ncand
@@ -201,6 +264,10 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
     stats[0] += n_coll
     stats[1] += sep
     stats[2] += n_cand
+    if pairs:
+        for c in range(ncell):
+            for k in range(nsp * nsp):
+                stats[3 + k] += pair_cell[c, k]
 
 
 collide_cells, collide_cells_par = serial_and_parallel(collide_cells_py)

@@ -17,9 +17,10 @@ from rarefy.kernels.config import JIT, SIDE_XMAX, SIDE_XMIN, SIDE_YMAX, SIDE_YMI
 from rarefy.kernels.internal import inject_internal
 
 # columns of the inflow rows; I_AXI = 1: an end disk of an axisymmetric domain, where
-# the radius is drawn with density ~ r
-I_SIDE, I_START, I_END, I_POS, I_VMP, I_UX, I_UY, I_UZ, I_AXI, I_RATE = range(10)
-N_INFLOW_COLS = 10
+# the radius is drawn with density ~ r; I_SPEC: the species (mixtures: one row per
+# species of each piece)
+I_SIDE, I_START, I_END, I_POS, I_VMP, I_UX, I_UY, I_UZ, I_AXI, I_SPEC, I_RATE = range(11)
+N_INFLOW_COLS = 11
 
 
 @njit(**JIT)
@@ -46,14 +47,15 @@ def flux_weighted_normal(s):
 
 
 @njit(**JIT)
-def inject(inflow, n, x, y, vx, vy, vz, eint, ip, tfrac):
+def inject(inflow, n, x, y, vx, vy, vz, eint, ip, spc, nsp, tfrac):
     """Append the molecules entering this step at index ``n``; returns the new count.
 
     ``inflow[k]`` holds side, start, end, position of the side, v_mp, drift
     (ux, uy, uz) and the expected number per step. ``tfrac`` receives each new
     molecule's fraction of the step still to fly. Internal energies (``eint``, parameters
     ``ip``) are drawn in equilibrium at the reservoir's temperature: the flux of
-    molecules through a plane is weighted by their velocity only.
+    molecules through a plane is weighted by their velocity only. With ``nsp`` > 1
+    species, ``spc`` (the species row) receives each molecule's species.
     """
     m = n
     for k in range(inflow.shape[0]):
@@ -87,6 +89,8 @@ def inject(inflow, n, x, y, vx, vy, vz, eint, ip, tfrac):
                 vx[m] = ux + sig * np.random.standard_normal()
             vz[m] = uz + sig * np.random.standard_normal()
             inject_internal(eint, m, ip, sig * sig)
+            if nsp > 1:
+                spc[m] = inflow[k, I_SPEC]
             tfrac[m - n] = np.random.random()
             m += 1
     return m

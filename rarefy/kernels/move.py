@@ -88,8 +88,9 @@ def ray_segment(px, py, ux, uy, ax, ay, bx, by):
 
 
 @njit(**JIT)
-def _cross_planes(x, y, vx, vy, vz, t, planes, ftally, w):
-    """Tally crossings of the flux planes by the straight path p + v s, 0 < s <= t."""
+def _cross_planes(x, y, vx, vy, vz, t, planes, ftally, w, k, nsp):
+    """Tally crossings of the flux planes by the straight path p + v s, 0 < s <= t, by a
+    molecule of species ``k`` of ``nsp`` (row p * nsp + k of the tallies)."""
     for p in range(planes.shape[0]):
         s_t, s_p = ray_segment(x, y, vx, vy, planes[p, 0], planes[p, 1], planes[p, 2],
                                planes[p, 3])
@@ -98,29 +99,30 @@ def _cross_planes(x, y, vx, vy, vz, t, planes, ftally, w):
         ex = planes[p, 2] - planes[p, 0]
         ey = planes[p, 3] - planes[p, 1]
         # right-hand normal (ey, -ex) is the positive direction
-        tally_crossing(ftally, planes, p, vx * ey - vy * ex > 0.0, vx * vx + vy * vy + vz * vz, w)
+        tally_crossing(ftally, planes, p, p * nsp + k, vx * ey - vy * ex > 0.0,
+                       vx * vx + vy * vy + vz * vz, w)
 
 
 @njit(inline="always", **JIT)
-def tally_crossing(ftally, planes, p, positive, c2, w):
-    """Count one crossing of flux plane ``p`` by a molecule of squared speed ``c2`` and
-    bin its speed (``planes[p, PL_INV_DV]`` bins per m/s, ``planes[p, PL_NBINS]`` bins;
-    faster molecules go to the overflow column)."""
+def tally_crossing(ftally, planes, p, row, positive, c2, w):
+    """Count one crossing of flux plane ``p`` by a molecule of squared speed ``c2`` in
+    tally row ``row`` and bin its speed (``planes[p, PL_INV_DV]`` bins per m/s,
+    ``planes[p, PL_NBINS]`` bins; faster molecules go to the overflow column)."""
     c = np.sqrt(c2)
     nb = int(planes[p, PL_NBINS])
     b = int(c * planes[p, PL_INV_DV])
     if b > nb:
         b = nb
     if positive:
-        ftally[p, F_N_POS] += w
-        ftally[p, F_C_POS] += c * w
-        ftally[p, F_C2_POS] += c2 * w
-        ftally[p, F_HIST + b] += w
+        ftally[row, F_N_POS] += w
+        ftally[row, F_C_POS] += c * w
+        ftally[row, F_C2_POS] += c2 * w
+        ftally[row, F_HIST + b] += w
     else:
-        ftally[p, F_N_NEG] += w
-        ftally[p, F_C_NEG] += c * w
-        ftally[p, F_C2_NEG] += c2 * w
-        ftally[p, F_HIST + nb + 1 + b] += w
+        ftally[row, F_N_NEG] += w
+        ftally[row, F_C_NEG] += c * w
+        ftally[row, F_C2_NEG] += c2 * w
+        ftally[row, F_HIST + nb + 1 + b] += w
 
 
 @njit(inline="always", **JIT)
@@ -156,13 +158,19 @@ def _facet_of(first, nbins, frac):
 
 
 @njit(inline="always", **JIT)
-def move_one(i, t, x, y, vx, vy, vz, eint, ip, segs, seg_tally, box, pieces, piece_int,
-             planes, stally, ftally, sampling, nudge, rng_key):
+def move_one(i, t, x, y, vx, vy, vz, eint, ip, spc, sfac, segs, seg_tally, box, pieces,
+             piece_int, planes, stally, ftally, sampling, nudge, rng_key):
     """Move particle ``i`` for time ``t`` (s). Returns False if it left the domain.
 
     Surface interactions draw from the particle's stream under ``rng_key``; ``eint`` and
-    ``ip`` are the internal energies and their parameters (``rarefy.kernels.internal``)."""
+    ``ip`` are the internal energies and their parameters (``rarefy.kernels.internal``).
+    Mixtures: ``spc[i]`` is the particle's species k, ``sfac[k]`` = sqrt(m_ref / m_k)
+    scales the walls' sqrt(k T_w / m_ref), and species k tallies into rows
+    facet * nsp + k and plane * nsp + k (nsp = len(sfac); one species: row = facet)."""
     s = stream(rng_key, i)
+    nsp = sfac.shape[0]
+    sp = int(spc[i]) if nsp > 1 else 0
+    sf = sfac[sp]
     last = -1
     for _event in range(MAX_EVENTS):
         px = x[i]
@@ -210,14 +218,14 @@ def move_one(i, t, x, y, vx, vy, vz, eint, ip, segs, seg_tally, box, pieces, pie
             t_box = 0.0
         if k_hit < 0 and t_box >= t:
             if sampling and planes.shape[0] > 0:
-                _cross_planes(px, py, ux, uy, vz[i], t, planes, ftally, 1.0)
+                _cross_planes(px, py, ux, uy, vz[i], t, planes, ftally, 1.0, sp, nsp)
             x[i] = px + ux * t
             y[i] = py + uy * t
             return True
         if k_hit >= 0 and t_hit <= t_box:
             # ---- wall segment event
             if sampling and planes.shape[0] > 0:
-                _cross_planes(px, py, ux, uy, vz[i], t_hit, planes, ftally, 1.0)
+                _cross_planes(px, py, ux, uy, vz[i], t_hit, planes, ftally, 1.0, sp, nsp)
             ex = segs[k_hit, W_X1] - segs[k_hit, W_X0]
             ey = segs[k_hit, W_Y1] - segs[k_hit, W_Y0]
             el = np.sqrt(ex * ex + ey * ey)
@@ -231,11 +239,12 @@ def move_one(i, t, x, y, vx, vy, vz, eint, ip, segs, seg_tally, box, pieces, pie
             hx = px + ux * t_hit
             hy = py + uy * t_hit
             w0x, w0y, w0z = ux, uy, vz[i]
-            s, dif, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny, segs[k_hit, W_SIGMA],
-                                            segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, ty)
-            s, e0, e1 = wall_internal(s, eint, i, dif, segs[k_hit, W_SIGMA], ip)
+            s, dif, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny,
+                                            sf * segs[k_hit, W_SIGMA], segs[k_hit, W_ACC],
+                                            segs[k_hit, W_VEL], tx, ty)
+            s, e0, e1 = wall_internal(s, eint, i, dif, sf * segs[k_hit, W_SIGMA], ip)
             if sampling and seg_tally[k_hit, 1] > 0:
-                f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit)
+                f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit) * nsp + sp
                 _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, e0,
                                e1, 1.0)
             vx[i] = nvx
@@ -248,7 +257,7 @@ def move_one(i, t, x, y, vx, vy, vz, eint, ip, segs, seg_tally, box, pieces, pie
             continue
         # ---- domain side event
         if sampling and planes.shape[0] > 0:
-            _cross_planes(px, py, ux, uy, vz[i], t_box, planes, ftally, 1.0)
+            _cross_planes(px, py, ux, uy, vz[i], t_box, planes, ftally, 1.0, sp, nsp)
         hx = px + ux * t_box
         hy = py + uy * t_box
         if side == SIDE_XMIN or side == SIDE_XMAX:
@@ -281,12 +290,12 @@ def move_one(i, t, x, y, vx, vy, vz, eint, ip, segs, seg_tally, box, pieces, pie
         # reflecting side: inward normal, tangent along +x (y-sides) or +y (x-sides)
         nx, ny, tx, ty = side_frame(side)
         w0x, w0y, w0z = ux, uy, vz[i]
-        s, dif, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny, pieces[j, P_SIGMA],
+        s, dif, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny, sf * pieces[j, P_SIGMA],
                                         pieces[j, P_ACC], pieces[j, P_VEL], tx, ty)
-        s, e0, e1 = wall_internal(s, eint, i, dif, pieces[j, P_SIGMA], ip)
+        s, e0, e1 = wall_internal(s, eint, i, dif, sf * pieces[j, P_SIGMA], ip)
         if sampling and piece_int[j, 3] > 0:
             frac = (coord - pieces[j, P_START]) / (pieces[j, P_END] - pieces[j, P_START])
-            f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac)
+            f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac) * nsp + sp
             _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, e0, e1,
                            1.0)
         vx[i] = nvx
@@ -338,9 +347,9 @@ def chunk_bounds(n, nchunk, ch):
     return (n * ch) // nchunk, (n * (ch + 1)) // nchunk
 
 
-def move_all_py(n, first_new, tfrac, dt, x, y, vx, vy, vz, eint, ip, key, segs, seg_tally, box,
-                pieces, piece_int, planes, stally, ftally, sampling, nudge, nx, ny, dx, dy,
-                nsub, free, rng_key):
+def move_all_py(n, first_new, tfrac, dt, x, y, vx, vy, vz, eint, ip, spc, sfac, key, segs,
+                seg_tally, box, pieces, piece_int, planes, stally, ftally, sampling, nudge, nx,
+                ny, dx, dy, nsub, free, rng_key):
     """Move particles 0..n-1: older ones for ``dt``, those from ``first_new`` on for
     ``tfrac[i - first_new] * dt``. Writes each particle's sort key (-1: removed).
 
@@ -378,8 +387,8 @@ def move_all_py(n, first_new, tfrac, dt, x, y, vx, vy, vz, eint, ip, key, segs, 
                     y[i] = qy
                     key[i] = cell_key(qx, qy, box, nx, ny, dx, dy, nsub)
                     continue
-            alive = move_one(i, t, x, y, vx, vy, vz, eint, ip, segs, seg_tally, box, pieces,
-                             piece_int, planes, stc, ftc, sampling, nudge, rng_key)
+            alive = move_one(i, t, x, y, vx, vy, vz, eint, ip, spc, sfac, segs, seg_tally, box,
+                             pieces, piece_int, planes, stc, ftc, sampling, nudge, rng_key)
             if alive:
                 key[i] = cell_key(x[i], y[i], box, nx, ny, dx, dy, nsub)
             else:

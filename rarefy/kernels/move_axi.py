@@ -102,7 +102,7 @@ def rotate_to(pr, ur, ut, t):
 
 
 @njit(**JIT)
-def _cross_planes_axi(px, pr, ux, ur, ut, t, planes, ftally, w):
+def _cross_planes_axi(px, pr, ux, ur, ut, t, planes, ftally, w, k, nsp):
     for p in range(planes.shape[0]):
         tmin = 0.0
         for _ in range(2):   # a line can cross a cone twice
@@ -114,16 +114,21 @@ def _cross_planes_axi(px, pr, ux, ur, ut, t, planes, ftally, w):
             _, vr, vt = rotate_to(pr, ur, ut, tc)
             ex = planes[p, 2] - planes[p, 0]
             er = planes[p, 3] - planes[p, 1]
-            tally_crossing(ftally, planes, p, ux * er - vr * ex > 0.0, ux * ux + ur * ur + ut * ut, w)
+            tally_crossing(ftally, planes, p, p * nsp + k, ux * er - vr * ex > 0.0,
+                           ux * ux + ur * ur + ut * ut, w)
 
 
 @njit(inline="always", **JIT)
-def move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, segs, seg_tally, box, pieces, piece_int,
-                 planes, stally, ftally, sampling, nudge, w, rng_key):
+def move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, spc, sfac, segs, seg_tally, box, pieces,
+                 piece_int, planes, stally, ftally, sampling, nudge, w, rng_key):
     """Move particle ``i`` for time ``t`` (s); False if it left the domain. Surface
     interactions draw from the particle's stream under ``rng_key`` and accommodate the
-    internal energies ``eint`` (parameters ``ip``; ``rarefy.kernels.internal``)."""
+    internal energies ``eint`` (parameters ``ip``; ``rarefy.kernels.internal``). Species
+    as in ``rarefy.kernels.move.move_one``."""
     s = stream(rng_key, i)
+    nsp = sfac.shape[0]
+    sp = int(spc[i]) if nsp > 1 else 0
+    sf = sfac[sp]
     for _event in range(MAX_EVENTS):
         px = x[i]
         pr = r[i]
@@ -162,13 +167,13 @@ def move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, segs, seg_tally, box, pieces,
             t_box = 0.0
         if k_hit < 0 and t_box >= t:
             if sampling and planes.shape[0] > 0:
-                _cross_planes_axi(px, pr, ux, ur, ut, t, planes, ftally, w)
+                _cross_planes_axi(px, pr, ux, ur, ut, t, planes, ftally, w, sp, nsp)
             x[i] = px + ux * t
             r[i], vr[i], vt[i] = rotate_to(pr, ur, ut, t)
             return True
         event_t = t_hit if (k_hit >= 0 and t_hit <= t_box) else t_box
         if sampling and planes.shape[0] > 0:
-            _cross_planes_axi(px, pr, ux, ur, ut, event_t, planes, ftally, w)
+            _cross_planes_axi(px, pr, ux, ur, ut, event_t, planes, ftally, w, sp, nsp)
         hx = px + ux * event_t
         hr, wr, wt = rotate_to(pr, ur, ut, event_t)
         t -= event_t
@@ -183,11 +188,11 @@ def move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, segs, seg_tally, box, pieces,
             if ux * nx + wr * nr > 0.0:
                 nx = -nx
                 nr = -nr
-            s, dif, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, segs[k_hit, W_SIGMA],
+            s, dif, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, sf * segs[k_hit, W_SIGMA],
                                             segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, tr_)
-            s, e0, e1 = wall_internal(s, eint, i, dif, segs[k_hit, W_SIGMA], ip)
+            s, e0, e1 = wall_internal(s, eint, i, dif, sf * segs[k_hit, W_SIGMA], ip)
             if sampling and seg_tally[k_hit, 1] > 0:
-                f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit)
+                f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit) * nsp + sp
                 _tally_surface(stally, f, ux, wr, wt, nvx, nvr, nvt, nx, nr, tx, tr_, e0, e1,
                                w)
             x[i] = hx + nudge * nx
@@ -215,12 +220,12 @@ def move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, segs, seg_tally, box, pieces,
             vt[i] = wt
             continue
         nx, nr, tx, tr_ = side_frame(side)   # the axis (ymin) is never met
-        s, dif, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, pieces[j, P_SIGMA],
+        s, dif, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, sf * pieces[j, P_SIGMA],
                                         pieces[j, P_ACC], pieces[j, P_VEL], tx, tr_)
-        s, e0, e1 = wall_internal(s, eint, i, dif, pieces[j, P_SIGMA], ip)
+        s, e0, e1 = wall_internal(s, eint, i, dif, sf * pieces[j, P_SIGMA], ip)
         if sampling and piece_int[j, 3] > 0:
             frac = (coord - pieces[j, P_START]) / (pieces[j, P_END] - pieces[j, P_START])
-            f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac)
+            f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac) * nsp + sp
             _tally_surface(stally, f, ux, wr, wt, nvx, nvr, nvt, nx, nr, tx, tr_, e0, e1, w)
         x[i] = hx + nudge * nx
         r[i] = hr + nudge * nr
@@ -230,8 +235,8 @@ def move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, segs, seg_tally, box, pieces,
     return False
 
 
-def move_all_axi_py(n, first_new, tfrac, dt, x, r, vx, vr, vt, eint, ip, key, segs, seg_tally,
-                    box,
+def move_all_axi_py(n, first_new, tfrac, dt, x, r, vx, vr, vt, eint, ip, spc, sfac, key, segs,
+                    seg_tally, box,
                  pieces, piece_int, planes, stally, ftally, sampling, nudge, nx, ny, dx, dr,
                  nsub, free, row_weight, capacity, balance, rng_key):
     """Move particles 0..n-1 (those from ``first_new`` on for ``tfrac * dt``), apply the
@@ -275,8 +280,9 @@ def move_all_axi_py(n, first_new, tfrac, dt, x, r, vx, vr, vt, eint, ip, key, se
                 r[i], vr[i], vt[i] = rotate_to(pr, vr[i], vt[i], t)
                 alive = True
             else:
-                alive = move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, segs, seg_tally, box,
-                                     pieces, piece_int, planes, stc, ftc, sampling, nudge,
+                alive = move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, spc, sfac, segs,
+                                     seg_tally, box, pieces, piece_int, planes, stc, ftc,
+                                     sampling, nudge,
                                      row_weight[j0], rng_key)
             if not alive:
                 key[i] = -1
@@ -322,6 +328,8 @@ def move_all_axi_py(n, first_new, tfrac, dt, x, r, vx, vr, vt, eint, ip, key, se
             vt[m] = vt[i]
             for e in range(eint.shape[0]):
                 eint[e, m] = eint[e, i]
+            if sfac.shape[0] > 1:
+                spc[m] = spc[i]
             key[m] = k
             m += 1
     return m, lost

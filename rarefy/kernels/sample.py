@@ -16,7 +16,7 @@ from numba import njit
 
 from rarefy.kernels.config import (
     H_SPEED, H_VX, H_VY, H_VZ, JIT, PM_C, PM_C2, PM_EROT, PM_VX, PM_VXX, PM_VXY, PM_VXZ, PM_VY, PM_VYY,
-    PM_VYZ, PM_VZ, PM_VZZ, PM_W, M_C2, M_C2VX, M_C2VY, M_EROT, M_EVIB, M_EVX, M_EVY, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ,
+    PM_VYZ, PM_VZ, PM_VZZ, PM_W, M_C2, M_C2VX, M_C2VY, M_EROT, M_EVIB, M_EVX, M_EVY, M_N, N_MOMENTS, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ,
     M_VZZ,
 )
 
@@ -79,16 +79,42 @@ def add_cell_moments(lo, hi, vx, vy, vz, eint, acc, c, weight):
         acc[c, M_EVY] += weight * s_ey
 
 
+@njit(inline="always", **JIT)
+def add_cell_moments_mixed(lo, hi, vx, vy, vz, spc, acc, c, weight):
+    """:func:`add_cell_moments` of a mixture of monatomic species: particle i's moments go
+    to the columns of its species, spc[i] * N_MOMENTS + M_*."""
+    for i in range(lo, hi):
+        o = int(spc[i]) * N_MOMENTS
+        u = vx[i]
+        v = vy[i]
+        w = vz[i]
+        c2 = u * u + v * v + w * w
+        acc[c, o + M_N] += weight
+        acc[c, o + M_VX] += weight * u
+        acc[c, o + M_VY] += weight * v
+        acc[c, o + M_VZ] += weight * w
+        acc[c, o + M_VXX] += weight * u * u
+        acc[c, o + M_VYY] += weight * v * v
+        acc[c, o + M_VZZ] += weight * w * w
+        acc[c, o + M_VXY] += weight * u * v
+        acc[c, o + M_VXZ] += weight * u * w
+        acc[c, o + M_VYZ] += weight * v * w
+        acc[c, o + M_C2VX] += weight * c2 * u
+        acc[c, o + M_C2VY] += weight * c2 * v
+        acc[c, o + M_C2] += weight * c2
+
+
 @njit(**JIT)
 def sample_probes(box, cells, cell_start, nsub, key_start, cell_wt, x, y, vx, vy, vz, eint,
-                  vmax, mom, hist, weight):
+                  spc, nsp, vmax, mom, hist, weight):
     """Add ``weight`` times the velocity sums and histograms of the particles inside each
     probe.
 
     ``box[q] = x0, x1, y0, y1`` is probe q's rectangle (m) and
     ``cells[cell_start[q]:cell_start[q + 1]]`` the cells it overlaps; a particle counts
     with its cell's weight factor ``cell_wt`` (radial weighting). ``mom[q]`` receives the
-    PM_* sums (PM_EROT, PM_EVIB from the rows of ``eint``), ``hist[q, H_*, b]`` the speed histogram on [0, vmax) and the component
+    PM_* sums (PM_EROT, PM_EVIB from the rows of ``eint``; a mixture of ``nsp`` species
+    uses row q * nsp + spc[i] of ``mom`` and ``hist``), ``hist[q, H_*, b]`` the speed histogram on [0, vmax) and the component
     histograms on [-vmax, vmax), bin ``nb`` (the last) collecting what falls outside.
     """
     nb = hist.shape[2] - 1
@@ -106,28 +132,29 @@ def sample_probes(box, cells, cell_start, nsub, key_start, cell_wt, x, y, vx, vy
             for i in range(key_start[c * ns2], key_start[(c + 1) * ns2]):
                 if x[i] < x0 or x[i] >= x1 or y[i] < y0 or y[i] >= y1:
                     continue
+                row = q * nsp + int(spc[i]) if nsp > 1 else q
                 u = vx[i]
                 v = vy[i]
                 t = vz[i]
                 c2 = u * u + v * v + t * t
                 s = np.sqrt(c2)
-                mom[q, PM_W] += w
-                mom[q, PM_VX] += w * u
-                mom[q, PM_VY] += w * v
-                mom[q, PM_VZ] += w * t
-                mom[q, PM_VXX] += w * u * u
-                mom[q, PM_VYY] += w * v * v
-                mom[q, PM_VZZ] += w * t * t
-                mom[q, PM_VXY] += w * u * v
-                mom[q, PM_VXZ] += w * u * t
-                mom[q, PM_VYZ] += w * v * t
-                mom[q, PM_C] += w * s
-                mom[q, PM_C2] += w * c2
-                for k in range(eint.shape[0]):
-                    mom[q, PM_EROT + k] += w * eint[k, i]
+                mom[row, PM_W] += w
+                mom[row, PM_VX] += w * u
+                mom[row, PM_VY] += w * v
+                mom[row, PM_VZ] += w * t
+                mom[row, PM_VXX] += w * u * u
+                mom[row, PM_VYY] += w * v * v
+                mom[row, PM_VZZ] += w * t * t
+                mom[row, PM_VXY] += w * u * v
+                mom[row, PM_VXZ] += w * u * t
+                mom[row, PM_VYZ] += w * v * t
+                mom[row, PM_C] += w * s
+                mom[row, PM_C2] += w * c2
+                for e in range(eint.shape[0]):
+                    mom[row, PM_EROT + e] += w * eint[e, i]
                 b = int(s * inv_s)
-                hist[q, H_SPEED, b if b < nb else nb] += w
+                hist[row, H_SPEED, b if b < nb else nb] += w
                 for h, comp in ((H_VX, u), (H_VY, v), (H_VZ, t)):
                     f = (comp + vmax) * inv_c
                     b = int(f) if f >= 0.0 else nb
-                    hist[q, h, b if b < nb else nb] += w
+                    hist[row, h, b if b < nb else nb] += w

@@ -59,7 +59,7 @@ def _step(ax, edges, pdf, err, label, color):
 def plot_probe(r: ResultData, name: str, row: dict, path: Path) -> Path:
     """Speed and component histograms of probe ``name`` (``row``: its report entry)."""
     q = r.probe_names.index(name)
-    mass = r.attrs["mass_kg"]
+    mass = r.row_mass(r.probe_species[q])       # of the probe's species in a mixture
     t0 = r.plan["reference_temperature_k"]
     edges = r.speed_edges
     vmax = edges[-1]
@@ -125,8 +125,11 @@ def plot_speeds_along(r: ResultData, path: Path) -> Path:
                       label=f"flux plane {name} (flux-weighted crossings)")
     t0 = r.plan["reference_temperature_k"]
     v = np.linspace(0.0, r.speed_edges[-1], 600)
-    overlay_maxwell(ax, r.attrs["mass_kg"], t0, v,
-                    label=f"Maxwell-Boltzmann at rest, {t0:.4g} K")
+    mixture = len(r.species) > 1
+    for k, species in enumerate(r.species if mixture else [None]):
+        overlay_maxwell(ax, r.row_mass(k if mixture else -1), t0, v,
+                        label=f"Maxwell-Boltzmann at rest, {t0:.4g} K"
+                        + (f", {species}" if mixture else ""))
     ax.set_xlabel("speed (m/s)")
     ax.set_ylabel("probability density (s/m)")
     ax.set_title(f"speed distributions by position — {r.attrs['gas']}")

@@ -19,10 +19,11 @@ import numpy as np
 
 from rarefy.constants import K_B
 from rarefy.kernels.config import (
-    M_C2, M_C2VX, M_C2VY, M_EROT, M_EVIB, M_EVX, M_EVY, M_N, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ, M_VZZ,
+    M_C2, M_C2VX, M_C2VY, M_EROT, M_EVIB, M_EVX, M_EVY, M_N, N_MOMENTS, M_VX, M_VXX, M_VXY, M_VXZ, M_VY, M_VYY, M_VYZ, M_VZ, M_VZZ,
 )
 
-__all__ = ["FIELD_UNITS", "INTERNAL_FIELDS", "fields_from_moments", "internal_temperatures"]
+__all__ = ["FIELD_UNITS", "INTERNAL_FIELDS", "fields_from_moments", "internal_temperatures",
+           "cell_fields", "field_unit"]
 
 FIELD_UNITS = {
     "number_density": "m^-3",
@@ -118,3 +119,50 @@ def internal_temperatures(e_rot, e_vib, t_tr, mass_kg: float, rot_dof: int,
         dof = dof + zeta_v
     out["temperature_overall"] = heat / dof
     return out
+
+
+def cell_fields(sums: np.ndarray, nsteps: int, volume: np.ndarray, masses: np.ndarray,
+                fnum, rot_dof: int = 0, theta_vib_k: float = 0.0,
+                names: tuple[str, ...] = ()) -> dict[str, np.ndarray]:
+    """Fields per cell of a pure gas (:func:`fields_from_moments`) or of a mixture.
+
+    A mixture's sums hold species k in columns k * N_MOMENTS + M_*. Its fields are those of
+    the whole gas: the moments weighted by m_k / m_mean (m_mean the cell's number-weighted
+    mean mass) make :func:`fields_from_moments` return the number density, the
+    mass-averaged velocity u, the temperature sum_k m_k <(c - u)^2> / (3 k N), pressure
+    n k T, shear stress and heat flux of the mixture (Bird 1994 sec. 1.5, from memory).
+    Each species adds ``number_density_<name>``, ``mole_fraction_<name>`` and its
+    ``velocity_x_<name>``, ``velocity_y_<name>`` (diffusion shows as their difference
+    from the mixture's).
+    """
+    nsp = len(masses)
+    if nsp == 1:
+        return fields_from_moments(sums, nsteps, volume, float(masses[0]), fnum, rot_dof,
+                                   theta_vib_k)
+    blocks = [sums[:, k * N_MOMENTS:(k + 1) * N_MOMENTS] for k in range(nsp)]
+    counts = np.array([b[:, M_N] for b in blocks])
+    total = counts.sum(axis=0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        m_mean = np.where(total > 0, (masses[:, None] * counts).sum(axis=0)
+                          / np.where(total > 0, total, 1.0), masses.mean())
+        weighted = sum(b * (m / m_mean)[:, None] for b, m in zip(blocks, masses))
+        out = fields_from_moments(weighted, nsteps, volume, m_mean, fnum)
+        for name, b in zip(names, blocks):
+            part = fields_from_moments(b, nsteps, volume, float(masses[names.index(name)]),
+                                       fnum)
+            out[f"number_density_{name}"] = part["number_density"]
+            out[f"mole_fraction_{name}"] = np.where(total > 0, b[:, M_N] / total, np.nan)
+            out[f"velocity_x_{name}"] = part["velocity_x"]
+            out[f"velocity_y_{name}"] = part["velocity_y"]
+    return out
+
+
+def field_unit(name: str) -> str:
+    """Unit of a cell field, species fields included (``number_density_He``: m^-3)."""
+    if name in FIELD_UNITS:
+        return FIELD_UNITS[name]
+    for prefix, unit in (("number_density_", "m^-3"), ("mole_fraction_", "1"),
+                         ("velocity_", "m/s")):
+        if name.startswith(prefix):
+            return unit
+    raise KeyError(name)

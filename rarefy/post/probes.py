@@ -29,7 +29,7 @@ from scipy import optimize, stats
 
 from rarefy.constants import K_B
 from rarefy.gas import kinetic
-from rarefy.post.results import upstream_downstream
+from rarefy.post.results import reservoir_fractions, upstream_downstream
 from rarefy.theory import effusion
 from rarefy.io.result import ResultData, read_result
 from rarefy.kernels.config import (
@@ -151,10 +151,10 @@ def _component_fit(edges, hist, mass_kg, start_u, start_t) -> dict:
             "temperature_stderr_k": 2.0 * t * ss / s, **_fit_summary(fit)}
 
 
-def _orifice_beam(case, box, mass_kg) -> dict | None:
+def _orifice_beam(case, box, mass_kg, fraction: float = 1.0) -> dict | None:
     """Free-molecular values at the probe centre when the probe sits on the axis behind
     a thin orifice (a flux plane from the axis with opening = "orifice", no length) fed
-    from a reservoir on the xmin side."""
+    from a reservoir on the xmin side; ``fraction``: the species' mole fraction there."""
     if case is None or not case.domain.axisymmetric or box[2] > 0.0:
         return None
     if not any(b.side == "xmin" and b.kind == "reservoir" for b in case.boundaries):
@@ -170,7 +170,7 @@ def _orifice_beam(case, box, mass_kg) -> dict | None:
             beam = {k: float(v) for k, v in
                     effusion.orifice_axis_beam(z, a, t0, mass_kg).items()}
             beam["number_density_m3"] = float(effusion.orifice_axis_density(
-                z, a, p0 / (K_B * t0)))
+                z, a, fraction * p0 / (K_B * t0)))
             beam["note"] = (f"free-molecular beam on the axis {z:.4g} m behind the orifice "
                             "plane '" + fp.name + "' (probe centre)")
             return beam
@@ -190,6 +190,7 @@ def probe_results(r: ResultData, case=None) -> dict:
     vmax = edges[-1]
     cedges = np.linspace(-vmax, vmax, len(edges))
     for q, name in enumerate(r.probe_names):
+        mass = r.row_mass(r.probe_species[q])      # a mixture's probes: one per species
         direction = r.probe_direction[q]
         row = {"volume_m3": float(r.probe_volume[q]),
                "region_m": [float(v) for v in r.probe_box[q]], "direction": direction}
@@ -232,7 +233,10 @@ def probe_results(r: ResultData, case=None) -> dict:
             "mean_speed_m_s": float(kinetic.mean_speed(mass, t0)),
             "rms_speed_m_s": float(kinetic.rms_speed(mass, t0)),
         }
-        beam = _orifice_beam(case, r.probe_box[q], mass)
+        k = r.probe_species[q]
+        beam = _orifice_beam(case, r.probe_box[q], mass,
+                             float(reservoir_fractions(case)[0][k]) if k >= 0 and case
+                             else 1.0)
         if beam:
             row["analytic"]["free_molecular_beam"] = beam
         out[name] = row
@@ -247,10 +251,14 @@ def speed_distribution(r: ResultData, name: str) -> SpeedDistribution | None:
     nb = len(edges) - 1
     mass = r.attrs["mass_kg"]
     if name in r.probe_names:
-        h = r.probe_hist[:, r.probe_names.index(name), H_SPEED, :nb]
+        q = r.probe_names.index(name)
+        h = r.probe_hist[:, q, H_SPEED, :nb]
+        mass = r.row_mass(r.probe_species[q])
         weighting = "density"
     elif name in r.plane_names:
-        h = r.flux[:, r.plane_names.index(name), F_HIST:F_HIST + nb]
+        q = r.plane_names.index(name)
+        h = r.flux[:, q, F_HIST:F_HIST + nb]
+        mass = r.row_mass(r.plane_species[q])
         weighting = "flux"
     else:
         return None

@@ -16,6 +16,7 @@ import numpy as np
 
 from rarefy.case import Case
 from rarefy.constants import K_B
+from rarefy.gas.mixture import mixture_of
 from rarefy.gas.species import get_species
 from rarefy.io.result import ResultData
 from rarefy.post.uncertainty import batch_mean
@@ -70,50 +71,113 @@ def viscous_mass_flow(plane, axisymmetric, mu, p0, p1, t0, mass, depth) -> float
     return gap ** 3 * depth * dp2 / (24.0 * mu * plane.opening_length_m * rs * t0)
 
 
+def reservoir_fractions(case: Case) -> tuple[np.ndarray, np.ndarray]:
+    """Mole fractions of the upstream (densest) and downstream (lowest-pressure)
+    reservoirs of :func:`upstream_downstream`; a pure gas: [1.0], [1.0]."""
+    default = np.asarray(case.gas.mole_fractions or (1.0,))
+    res = [b for b in case.boundaries if b.kind == "reservoir"]
+    if not res:
+        return np.asarray(case.initial.mole_fractions or default), default
+    up = max(res, key=lambda b: b.pressure_pa / b.temperature_k)
+    down = min(res, key=lambda b: b.pressure_pa)
+    return (np.asarray(up.mole_fractions or default),
+            np.asarray(down.mole_fractions or default))
+
+
+def _fm_crossing_speed(parts, t0: float) -> float:
+    """Mean speed of the molecules crossing an opening in free-molecular effusion: each
+    species' flux-weighted mean speed, weighted by its one-way flux p_k / sqrt(m_k)."""
+    speeds = [float(effusion.flux_weighted_mean_speed(t0, mm)) for mm, _, _, _ in parts]
+    if len(parts) == 1:
+        return speeds[0]
+    weights = [pu / math.sqrt(mm) for mm, _, pu, _ in parts]
+    total = sum(weights)
+    if total <= 0.0:
+        return float(np.mean(speeds))
+    return sum(w * c for w, c in zip(weights, speeds)) / total
+
+
 def flux_plane_results(r: ResultData, case: Case) -> dict:
-    """Per flux plane: mass flow, transmission probability, crossing speeds, theory."""
+    """Per flux plane: mass flow, transmission probability, crossing speeds, theory.
+
+    A mixture has a row for the whole gas and one per species ("throat He"); a species'
+    free-molecular and transmission figures use its partial pressures, the whole gas's
+    the sum over species (Graham's law: each species effuses at its own rate)."""
     sp = get_species(case.gas.species)
-    m = sp.mass_kg
     fnum = r.attrs["particle_weight"]
     period = r.steps_per_batch * r.attrs["time_step_s"]
     p0, t0, p1 = upstream_downstream(case)
+    x_up, x_down = reservoir_fractions(case)
+    masses = r.species_mass
+    mixture = len(r.species) > 1
     # the plan's gamma counts rotation and, when switched on, vibration at the reference
     # temperature (rarefy.gas.internal.gamma_of_gas)
     gamma = r.plan.get("gamma", (5.0 + sp.rot_dof) / (3.0 + sp.rot_dof))
     out = {}
     for k, name in enumerate(r.plane_names):
+        spk = r.plane_species[k]
         factor = 2.0 if r.plane_mirrored[k] else 1.0
         tally = r.flux[:, k, :]
-        net = (tally[:, F_N_POS] - tally[:, F_N_NEG]) * fnum * factor / period
-        mdot, mdot_se = batch_mean(net * m)
+        if spk >= 0 or not mixture:           # one species: its own mass and pressures
+            kk = max(spk, 0)
+            m = float(masses[kk])
+            parts = [(m, tally, p0 * x_up[kk], p1 * x_down[kk])]
+        else:                                 # the whole mixture: its species' rows
+            parts = [(float(masses[j]), r.flux[:, k + 1 + j, :], p0 * x_up[j],
+                      p1 * x_down[j]) for j in range(len(r.species))]
+        m_up = float(sum(x * mm for x, mm in zip(x_up, masses))) if not spk >= 0 \
+            else parts[0][0]
+        nets = [(t[:, F_N_POS] - t[:, F_N_NEG]) * fnum * factor / period
+                for _, t, _, _ in parts]
+        mdot, mdot_se = batch_mean(sum(net * mm for net, (mm, _, _, _) in zip(nets, parts)))
+        if len(parts) == 1:                   # one species: as mass flow / m
+            nflow, nflow_se = mdot / parts[0][0], mdot_se / parts[0][0]
+            rho0 = parts[0][2] / (K_B / parts[0][0] * t0)
+            thr = mdot / rho0 * parts[0][2] if rho0 > 0 else math.nan
+            thr_se = mdot_se / rho0 * parts[0][2] if rho0 > 0 else math.nan
+        else:                                 # p V of the molecules: N k T0
+            nflow, nflow_se = batch_mean(sum(nets))
+            thr, thr_se = nflow * K_B * t0, nflow_se * K_B * t0
         area = float(r.plane_area[k])
-        fm = effusion.free_molecular_mass_flow(area, p0, t0, m)
-        fm_net = effusion.free_molecular_mass_flow(area, p0, t0, m, p_down_pa=p1)
+        fm = sum(effusion.free_molecular_mass_flow(area, pu, t0, mm) for mm, _, pu, _ in parts)
+        fm_net = sum(effusion.free_molecular_mass_flow(area, pu, t0, mm, p_down_pa=pd)
+                     for mm, _, pu, pd in parts)
+        p_up = sum(pu for _, _, pu, _ in parts)
+        p_down = sum(pd for _, _, _, pd in parts)
         with np.errstate(invalid="ignore", divide="ignore"):
             speed = tally[:, F_C_POS] / tally[:, F_N_POS]
-            energy = 0.5 * m * tally[:, F_C2_POS] / tally[:, F_N_POS]
+            energy = sum(0.5 * mm * t[:, F_C2_POS] for mm, t, _, _ in parts) \
+                / tally[:, F_N_POS]
         c_mean, c_se = batch_mean(speed)
         e_mean, e_se = batch_mean(energy)
-        choked = continuum.choked_mass_flux(p0, t0, m, gamma) * area
-        rho0 = p0 / (K_B / m * t0)
-        plane = case.flux_planes[k]
+        # continuum references: the whole gas expands together, a species carries its
+        # mass fraction of the whole gas's flow
+        share, cp_up, cp_down, cm_up = 1.0, p_up, p_down, m_up
+        if mixture and spk >= 0:
+            share = x_up[spk] * masses[spk] / float(x_up @ masses)
+            cp_up, cp_down, cm_up = p0, p1, float(x_up @ masses)
+        choked = continuum.choked_mass_flux(cp_up, t0, cm_up, gamma) * area * share
+        plane = case.flux_planes[r.plane_index[k]]
         w_fm = free_molecular_transmission(plane, case.domain.axisymmetric)
-        mu0 = kinetic.viscosity(sp.model(case.gas.model), t0)
-        viscous = viscous_mass_flow(plane, case.domain.axisymmetric, mu0, p0, p1, t0, m,
-                                    case.domain.depth_m)
+        mix = mixture_of(case.gas)
+        mu0 = mix.viscosity(t0, x_up) if mixture else \
+            kinetic.viscosity(sp.model(case.gas.model), t0)
+        viscous = viscous_mass_flow(plane, case.domain.axisymmetric, mu0, cp_up, cp_down, t0,
+                                    cm_up, case.domain.depth_m) * share
         out[name] = {
+            "species": r.species[spk] if spk >= 0 else "+".join(r.species),
             "mass_flow_kg_s": mdot,
             "mass_flow_stderr_kg_s": mdot_se,
-            "number_flow_1_s": mdot / m,
-            "number_flow_stderr_1_s": mdot_se / m,
-            "throughput_pa_m3_s": mdot / rho0 * p0 if rho0 > 0 else math.nan,
-            "throughput_stderr_pa_m3_s": mdot_se / rho0 * p0 if rho0 > 0 else math.nan,
+            "number_flow_1_s": nflow,
+            "number_flow_stderr_1_s": nflow_se,
+            "throughput_pa_m3_s": thr,
+            "throughput_stderr_pa_m3_s": thr_se,
             "free_molecular_mass_flow_kg_s": fm,
             "transmission_probability": mdot / fm if fm > 0 else math.nan,
             "transmission_probability_stderr": mdot_se / fm if fm > 0 else math.nan,
             "area_m2": area,
-            "upstream_pressure_pa": p0,
-            "downstream_pressure_pa": p1,
+            "upstream_pressure_pa": p_up,
+            "downstream_pressure_pa": p_down,
             "upstream_temperature_k": t0,
             "crossing_mean_speed_m_s": c_mean,
             "crossing_mean_speed_stderr_m_s": c_se,
@@ -124,8 +188,7 @@ def flux_plane_results(r: ResultData, case: Case) -> dict:
                 "free_molecular_transmission": w_fm,
                 "free_molecular_net_mass_flow_kg_s": w_fm * fm_net,
                 "viscous_mass_flow_kg_s": viscous,
-                "free_molecular_crossing_mean_speed_m_s":
-                    effusion.flux_weighted_mean_speed(t0, m),
+                "free_molecular_crossing_mean_speed_m_s": _fm_crossing_speed(parts, t0),
                 "free_molecular_crossing_mean_energy_j":
                     effusion.flux_weighted_mean_energy(t0),
                 "isentropic_choked_mass_flow_kg_s": choked,

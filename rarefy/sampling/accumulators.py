@@ -25,16 +25,22 @@ class Accumulators:
     Flux-plane rows hold the crossing sums and then two speed histograms of ``nbins``
     bins plus overflow (``rarefy.kernels.config.F_HIST``); probes hold velocity sums
     (``PM_*``) and four histograms (``H_*``) of ``nbins`` bins plus overflow.
+
+    A mixture of ``nspecies`` species keeps each species apart: cell moments in columns
+    k * N_MOMENTS + M_*, surface, flux-plane and probe sums in rows
+    facet (plane, probe) * nspecies + k.
     """
 
     def __init__(self, ncell: int, nfacet: int, nplane: int, batches: int,
-                 steps_per_batch: int, nprobe: int = 0, nbins: int = 0):
+                 steps_per_batch: int, nprobe: int = 0, nbins: int = 0, nspecies: int = 1):
+        ns = self.nspecies = nspecies
+        nfacet, nplane, nprobe = nfacet * ns, nplane * ns, nprobe * ns
         self.batches = batches
         self.steps_per_batch = steps_per_batch
         self.batch = 0
         self.step_in_batch = 0
-        self.cell_batch = np.zeros((ncell, N_MOMENTS))
-        self.cell_total = np.zeros((ncell, N_MOMENTS))
+        self.cell_batch = np.zeros((ncell, ns * N_MOMENTS))
+        self.cell_total = np.zeros((ncell, ns * N_MOMENTS))
         self.surf = np.zeros((batches, max(nfacet, 0), N_SURF_TALLY))
         self.nbins = nbins
         self.flux = np.zeros((batches, max(nplane, 0), N_FLUX_TALLY + 2 * (nbins + 1)))
@@ -57,13 +63,23 @@ class Accumulators:
         self.probe_hist = np.pad(self.probe_hist, pad + ((0, 0),))
         self.batches += extra
 
-    def relative_error(self, plane: int) -> float:
-        """Batch-means relative standard error of the net flow through flux plane
+    def net_flow(self, plane: int, masses=None) -> np.ndarray:
+        """Per completed batch, the net crossings of flux plane ``plane`` (a mixture's
+        species rows weighted by ``masses``, a mass flow in their unit)."""
+        nb = self.batch
+        rows = self.flux[:nb, plane * self.nspecies:(plane + 1) * self.nspecies]
+        net = rows[:, :, 0] - rows[:, :, 1]
+        if self.nspecies == 1:
+            return net[:, 0]
+        return net @ (np.ones(self.nspecies) if masses is None else np.asarray(masses))
+
+    def relative_error(self, plane: int, masses=None) -> float:
+        """Batch-means relative standard error of the net (mass) flow through flux plane
         ``plane`` over the completed batches (inf while it cannot be told)."""
         nb = self.batch
         if nb < 2:
             return np.inf
-        net = self.flux[:nb, plane, 0] - self.flux[:nb, plane, 1]
+        net = self.net_flow(plane, masses)
         mean = net.mean()
         if mean == 0.0:
             return np.inf

@@ -98,10 +98,12 @@ def test_molecules_pay_for_their_internal_energy_rows():
     from rarefy.engine.internal_params import internal_rows
     from rarefy.engine.particles import NVAR, ParticleStore
     for gas, extra, expected in (("Ar", {}, 84), ("N2", {}, 100),
-                                 ("N2", {"gas.vibration": True}, 116)):
+                                 ("N2", {"gas.vibration": True}, 116),
+                                 ("Ar", {"gas.species": ["He", "Ar"],
+                                         "gas.mole_fractions": [0.5, 0.5]}, 100)):
         case = parse_case(slit_case(gas=gas), "slit.toml", overrides=extra or None)
         plan = make_plan(case)
-        store = ParticleStore(1000, NVAR + internal_rows(plan))
+        store = ParticleStore(1000, NVAR + internal_rows(plan) + (len(plan.species) > 1))
         slot = (store.state.nbytes + store.spare.nbytes + store.key.nbytes) / 1000
         assert bytes_per_particle(plan) == slot == expected, gas
 

@@ -144,7 +144,9 @@ def test_collisions_conserve_total_energy_with_internal_modes():
     st = np.zeros(3)
     collide_cells(1, 1, np.array([0, n], dtype=np.int64), rng.random(n), rng.random(n),
                   vx, vy, vz, np.array([1.0]), sigcr, np.zeros(1), np.array([fnum]), dt,
-                  a_coef, exponent, model.alpha, eint, ip, KEY, np.zeros((1, N_MOMENTS)),
+                  a_coef, exponent, model.alpha, eint, ip, np.zeros(1), np.ones(1),
+                  np.zeros((1, 1)), np.zeros((1, 1)), np.ones((1, 1)), KEY,
+                  np.zeros((1, N_MOMENTS)),
                   False, st)
     e1 = math.fsum(0.5 * (vx * vx + vy * vy + vz * vz)) + math.fsum(eint.ravel())
     assert st[0] > 1000

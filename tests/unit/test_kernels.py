@@ -39,6 +39,8 @@ P_WRONG = 1e-6      # KS p-value a wrong distribution must fall below
 AR = get_species("Ar")
 NOINT = np.zeros((0, 1))            # no internal-energy rows (monatomic)
 IP0 = np.zeros(N_INTERNAL_PAR)      # internal-energy parameters of a monatomic gas
+ONE = (np.zeros(1), np.ones(1))     # one species: species row (unread), sigma factors
+PAIR1 = (np.zeros(1), np.ones(1), np.zeros((1, 1)), np.zeros((1, 1)), np.ones((1, 1)))
 
 
 # ============================================================== collisions
@@ -98,8 +100,8 @@ def test_collide_cells_conserves_momentum_and_energy(kind, alpha):
     moments = np.zeros((1, N_MOMENTS))
     pre = _moments_twin(vx, vy, vz)
     collide_cells(1, 2, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
-                  np.array([fnum]), dt, a_coef, exponent, alpha, NOINT, IP0, KEY, moments, True,
-                  stats_)
+                  np.array([fnum]), dt, a_coef, exponent, alpha, NOINT, IP0, *PAIR1, KEY,
+                  moments, True, stats_)
     p1, _, e1 = _totals(vx, vy, vz)
     # the fused sampling adds half the moments before and half after the collisions
     np.testing.assert_allclose(moments[0], 0.5 * (pre + _moments_twin(vx, vy, vz)),
@@ -131,7 +133,7 @@ def test_every_single_collision_conserves_and_keeps_relative_speed(alpha):
         fnum = 1.5 / (1e-30 * dt)   # 0.5 * 2 * 1 * fnum * sigcr_max * dt / V = 1.5
         st = np.zeros(3)
         collide_cells(1, 1, key_start, x, y, vx, vy, vz, volume, sigcr_max, remainder,
-                      np.array([fnum]), dt, a_coef, exponent, alpha, NOINT, IP0,
+                      np.array([fnum]), dt, a_coef, exponent, alpha, NOINT, IP0, *PAIR1,
                       step_key(7, step, 1), np.zeros((1, N_MOMENTS)), False, st)
         assert st[0] == 1.0 and st[2] == 1.0
         assert st[1] == pytest.approx(math.hypot(0.1, 0.1), rel=1e-12)
@@ -390,7 +392,7 @@ def _move(x, y, vx, vy, vz, dt, segs, pieces, piece_int, sampling=False, nudge=0
     ftally = np.zeros((0, N_FLUX_TALLY))
     planes = np.zeros((0, 4))
     free = np.zeros(NXM * NYM, dtype=np.uint8)   # no fast path: every flight is searched
-    removed = move_all(n, n, np.zeros(1), dt, x, y, vx, vy, vz, NOINT, IP0, key, segs,
+    removed = move_all(n, n, np.zeros(1), dt, x, y, vx, vy, vz, NOINT, IP0, *ONE, key, segs,
                        seg_tally, BOX,
                        pieces, piece_int, planes, stally, ftally, sampling, nudge, NXM, NYM,
                        1.0 / NXM, 1.0 / NYM, 1, free, KEY)
@@ -568,7 +570,8 @@ def test_fast_path_never_skips_a_wall():
     ex, ey = seg[2] - seg[0], seg[3] - seg[1]
     side0 = np.sign(ex * (y[0] - seg[1]) - ey * (x[0] - seg[0]))
     key = np.zeros(1, dtype=np.int32)
-    move_all(1, 1, np.zeros(1), plan.time_step_s, x, y, vx, vy, vz, NOINT, IP0, key, g.segs,
+    move_all(1, 1, np.zeros(1), plan.time_step_s, x, y, vx, vy, vz, NOINT, IP0, *ONE, key,
+             g.segs,
              g.seg_tally, g.box, g.pieces, g.piece_int, g.planes,
              np.zeros((len(g.facet_owner), N_SURF_TALLY)),
              np.zeros((0, N_FLUX_TALLY)), False, 1e-12 * 20e-3, g.nx, g.ny, g.dx, g.dy,

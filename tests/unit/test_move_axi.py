@@ -194,6 +194,7 @@ NUDGE = 1e-12
 KEY = step_key(2024, 0, 2)   # a fixed key for the per-particle streams
 NOINT = np.zeros((0, 1))     # no internal-energy rows (monatomic)
 IP0 = np.zeros(N_INTERNAL_PAR)
+ONE = (np.zeros(1), np.ones(1))     # one species: species row (unread), sigma factors
 
 
 def _move(x, r, vx, vr, vt, dt, segs, pieces, piece_int, box, nx, ny, free, weights=None,
@@ -208,7 +209,8 @@ def _move(x, r, vx, vr, vt, dt, segs, pieces, piece_int, box, nx, ny, free, weig
     if stally is None:
         stally = np.zeros((0, N_SURF_TALLY))
     row_weight = np.ones(ny) if weights is None else weights
-    m, lost = move_all_axi(n, n, np.zeros(1), dt, x, r, vx, vr, vt, NOINT, IP0, key, segs,
+    m, lost = move_all_axi(n, n, np.zeros(1), dt, x, r, vx, vr, vt, NOINT, IP0, *ONE, key,
+                           segs,
                            seg_tally, box,
                            pieces, piece_int, np.zeros((0, 4)), stally,
                            np.zeros((0, N_FLUX_TALLY)), sampling, NUDGE, nx, ny,
@@ -343,7 +345,7 @@ def test_radial_weights_unbiased_in_one_step():
             b[:n] = a
             arrays.append(b)
         key = np.zeros(cap, dtype=np.int32)
-        m, lost = move_all_axi(n, n, np.zeros(1), 0.3, *arrays, NOINT, IP0, key,
+        m, lost = move_all_axi(n, n, np.zeros(1), 0.3, *arrays, NOINT, IP0, *ONE, key,
                                np.zeros((0, 7)),
                                np.zeros((0, 2), dtype=np.int64), box, pieces, piece_int,
                                np.zeros((0, 4)), np.zeros((0, N_SURF_TALLY)),

@@ -95,7 +95,8 @@ def test_sample_probes_matches_numpy_histograms():
     mom = np.zeros((1, N_PROBE_MOMENTS))
     hist = np.zeros((1, 4, nb + 1))
     sample_probes(box, np.array([0], dtype=np.int64), np.array([0, 1], dtype=np.int64), 1,
-                  key_start, np.array([2.0]), x, y, v[0], v[1], v[2], np.zeros((0, n)), vmax,
+                  key_start, np.array([2.0]), x, y, v[0], v[1], v[2], np.zeros((0, n)),
+                  np.zeros(1), 1, vmax,
                   mom, hist, 0.5)
     inside = (x >= 0.2) & (x < 0.7) & (y >= 0.1) & (y < 0.6)
     c = np.sqrt((v[:, inside] ** 2).sum(axis=0))
