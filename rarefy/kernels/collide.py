@@ -1,5 +1,5 @@
-"""No-Time-Counter (NTC) collisions for HS, VHS and VSS molecules (one species), fused
-with the cell sampling.
+"""No-Time-Counter (NTC) collisions for HS, VHS and VSS molecules, of one species or a
+mixture, fused with the cell sampling.
 
 Per cell, the number of candidate pairs is (1/2) N (N - 1) F_N (sigma c_r)_max dt / V_c,
 with the fractional part carried to the next step; a candidate is accepted with
@@ -28,6 +28,11 @@ the relative speed is then sqrt(4 E_t / m) of the new translational energy.
 With Parker's Z_rot or Millikan-White's Z_vib the cell's translational temperature (of
 its particles before the collisions, with the N / (N - 1) correction) sets the
 probabilities.
+
+Mixtures: candidates are drawn from all molecules of the cell with one (sigma c_r)_max
+over all pairs and accepted with the pair's own sigma_pq c_r (mixing rules in
+``rarefy.gas.mixture``), which gives every pair its kinetic-theory rate; the pair scatters
+about its centre of mass (masses m_p, m_q).
 
 When sampling, each cell's moments are added with weight 1/2 before and after its
 collisions while the cell is in cache (see ``rarefy.kernels.sample``).
