@@ -70,7 +70,7 @@ def scatter(s, urx, ury, urz, cr, alpha):
     return s, sg * cr * cosx, cr * sinx * ce, cr * sinx * se
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def cell_temperature(lo, hi, vx, vy, vz, m_over_k):
     """Translational temperature (K) of particles lo..hi-1, with the N / (N - 1)
     correction for the sample mean."""
@@ -93,7 +93,7 @@ def _moments(lo, hi, vx, vy, vz, eint, spc, nsp, moments, c, weight):
         add_cell_moments(lo, hi, vx, vy, vz, eint, moments, c, weight)
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def _collide_mixed(s, i, j, urx, ury, urz, cr, vx, vy, vz, spc, mr, a_pair, e_pair, al_pair,
                    cmax):
     """One candidate pair of a mixture: accept with sigma_pq c_r / (sigma c_r)_max and

@@ -1,6 +1,10 @@
 """Internal energy of simulated molecules: Larsen-Borgnakke exchange in collisions and
 equilibrium sampling at walls and reservoirs.
 
+The helpers compile once as separate functions (not inlined): the kernels of rare events
+(walls) and of molecular collisions call them, and the serial and parallel builds of
+every kernel share them, which keeps the cold compile short.
+
 Energies are per unit mass (m^2/s^2), so that with kT/m = sigma^2 a wall or reservoir
 needs no mass. ``eint[0]`` holds each particle's rotational energy, ``eint[1]`` its
 vibrational energy (whole quanta of k theta / m); the parameters come in one array
@@ -29,7 +33,7 @@ from rarefy.kernels.rng import normal, uniform
 ATM_PA = 101325.0
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def equilibrium_rot(s, dof, kt_m):
     """(next counter, rotational energy per unit mass) drawn at kT/m = ``kt_m``:
     Gamma(dof/2) kT/m for dof = 2 or 3."""
@@ -41,7 +45,7 @@ def equilibrium_rot(s, dof, kt_m):
     return s, e * kt_m
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def equilibrium_vib(s, th, kt_m):
     """(next counter, vibrational energy per unit mass) of a harmonic mode of quantum
     ``th`` = k theta / m at kT/m = ``kt_m``: whole quanta, geometric distribution."""
@@ -49,7 +53,7 @@ def equilibrium_vib(s, th, kt_m):
     return s, np.floor(-np.log(1.0 - r) * kt_m / th) * th
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def wall_internal(s, eint, i, diffuse, sigma, ip):
     """Accommodate particle i's internal energy at a surface (full accommodation when
     re-emitted diffusely, unchanged when reflected specularly, the Maxwell model).
@@ -88,7 +92,7 @@ def inject_internal(eint, m, ip, kt_m):
         eint[1, m] = np.floor(-np.log(1.0 - np.random.random()) * kt_m / th) * th
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def beta_fraction(s, a, b):
     """(next counter, x ~ Beta(a, b)) for a = 1 (inverse) or a, b > 1 (acceptance-
     rejection against the density's maximum at (a - 1) / (a + b - 2))."""
@@ -104,7 +108,7 @@ def beta_fraction(s, a, b):
             return s, x
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def vib_level(s, ec, th, expo):
     """(next counter, energy of the level drawn) for quantized Larsen-Borgnakke with
     collision energy ``ec`` (per unit mass), quantum ``th`` and exponent 3/2 - omega."""
@@ -121,7 +125,7 @@ def vib_level(s, ec, th, expo):
             return s, lev * th
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def cell_probabilities(ip, t_cell):
     """Selection probabilities (rotation, vibration) for a cell at translational
     temperature ``t_cell`` (K): constants, Parker's Z_rot(T) or Millikan-White's Z_vib(T)
@@ -141,7 +145,7 @@ def cell_probabilities(ip, t_cell):
     return prot, pvib
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def relax_vib(s, eint, i, et, ip):
     """Quantized Larsen-Borgnakke for molecule i's vibration; returns (counter, new et)."""
     th = ip[IP_VIB_TH]
@@ -151,7 +155,7 @@ def relax_vib(s, eint, i, et, ip):
     return s, ec - ev
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def relax_rot(s, eint, i, et, ip):
     """Larsen-Borgnakke for molecule i's rotation; returns (counter, new et)."""
     ec = et + eint[0, i]
@@ -160,7 +164,7 @@ def relax_rot(s, eint, i, et, ip):
     return s, ec - eint[0, i]
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def exchange(s, eint, i, j, et, prot, pvib, ip):
     """Larsen-Borgnakke exchange of the pair (i, j) with its relative translational
     energy ``et`` (per unit mass of one molecule): vibration, then rotation. For each mode

@@ -79,7 +79,7 @@ def add_cell_moments(lo, hi, vx, vy, vz, eint, acc, c, weight):
         acc[c, M_EVY] += weight * s_ey
 
 
-@njit(inline="always", **JIT)
+@njit(**JIT)
 def add_cell_moments_mixed(lo, hi, vx, vy, vz, spc, acc, c, weight):
     """:func:`add_cell_moments` of a mixture of monatomic species: particle i's moments go
     to the columns of its species, spc[i] * N_MOMENTS + M_*."""
