@@ -105,19 +105,10 @@ class Mixture:
     def mean_free_path(self, n_m3: float, t_k: float, fractions=None) -> float:
         """Mean free path of the mixture, m: the fraction-weighted mean over species p of
         1 / sum_q n_q pi d_pq^2 (T_ref/T)^(omega_pq - 1/2) sqrt(1 + m_p/m_q) (Bird 1994
-        eq. 4.76 form)."""
+        eq. 4.76 form; :meth:`species_mean_free_paths`)."""
         x = np.asarray(self.fractions if fractions is None else fractions)
-        t_ref = self.models[0].t_ref_k
-        lam = 0.0
-        for p in range(self.nspecies):
-            s = 0.0
-            for q in range(self.nspecies):
-                d, w, _, _ = self.pair(p, q)
-                mp, mq = self.models[p].mass_kg, self.models[q].mass_kg
-                s += (x[q] * n_m3 * math.pi * d * d * (t_ref / t_k) ** (w - 0.5)
-                      * math.sqrt(1.0 + mp / mq))
-            lam += x[p] / s if s > 0 else 0.0
-        return lam
+        lam = self.species_mean_free_paths(n_m3, t_k, x)
+        return float(sum(xp * lp for xp, lp in zip(x, lam) if xp > 0.0))
 
     def species_mean_free_paths(self, n_m3: float, t_k: float, fractions=None) -> np.ndarray:
         """Mean free path of each species in the mixture, m (the terms of
