@@ -33,7 +33,7 @@ import math
 
 import numpy as np
 
-from rarefy.constants import K_B, N_A
+from rarefy.constants import ATM_PA, K_B, N_A
 
 __all__ = [
     "DEFAULT_ZROT",
@@ -46,7 +46,6 @@ __all__ = [
     "box_relaxation_rate",
     "vibrational_energy",
     "vibrational_temperature",
-    "vibrational_dof",
     "millikan_white_p_tau",
     "gamma_of_gas",
 ]
@@ -56,7 +55,6 @@ __all__ = [
 # N2 at 300 K). H2 relaxes far more slowly (Z_rot of a few hundred at room temperature,
 # from memory): set it in the case.
 DEFAULT_ZROT = 5.0
-ATM_PA = 101325.0
 
 
 def parker_zrot(t_k, z_inf: float, t_star_k: float):
@@ -127,14 +125,6 @@ def vibrational_temperature(e_j, theta_k: float):
     with np.errstate(divide="ignore", invalid="ignore"):
         return np.where(e > 0.0, theta_k / np.log1p(K_B * theta_k / np.where(e > 0, e, 1.0)),
                         0.0)
-
-
-def vibrational_dof(t_k, theta_k: float):
-    """Effective degrees of freedom of a harmonic mode, 2 (theta/T) / (exp(theta/T) - 1)."""
-    t = np.asarray(t_k, dtype=float)
-    x = theta_k / t
-    with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
-        return np.where(t > 0.0, 2.0 * x / np.expm1(x), 0.0)
 
 
 def millikan_white_p_tau(t_k, mass_kg: float, theta_k: float):

@@ -28,9 +28,9 @@ from rarefy.kernels.config import (
     IP_MW_A, IP_MW_B, IP_NU_P, IP_OMEGA, IP_ROT_DOF, IP_ROT_FACTOR, IP_ROT_MODE, IP_ROT_P,
     IP_THETA, IP_TSTAR, IP_VIB_FACTOR, IP_VIB_MODE, IP_VIB_P, IP_VIB_TH, IP_ZINF, JIT,
 )
+from rarefy.constants import ATM_PA
 from rarefy.kernels.rng import normal, uniform
 
-ATM_PA = 101325.0
 
 
 @njit(**JIT)
