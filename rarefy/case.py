@@ -84,12 +84,13 @@ class GasSpec:
     number Z_rot (a number >= 1) or ``"parker"`` (Parker's formula, N2 and O2);
     ``vibration`` switches the vibrational mode on, with collision number
     ``vibration_number`` (a number or ``"millikan-white"``). Monatomic gases have
-    ``rotation`` None.
+    ``rotation`` None. In a mixture ``rotation`` holds one entry per species (None for
+    the monatomic ones) and ``vibration`` applies to every molecule.
     """
 
     species: str
     model: str
-    rotation: float | str | None = None
+    rotation: float | str | tuple | None = None
     vibration: bool = False
     vibration_number: float | str | None = None
     rotation_set: bool = False      # rotation given in the case (else the default)
@@ -100,6 +101,12 @@ class GasSpec:
     def names(self) -> tuple[str, ...]:
         """The species simulated, in the order of their index (one for a pure gas)."""
         return self.mixture or (self.species,)
+
+    def rotation_of(self, k: int) -> float | str | None:
+        """Z_rot setting of species k: a number, ``"parker"``, or None (monatomic)."""
+        if self.mixture:
+            return self.rotation[k] if self.rotation else None
+        return self.rotation
 
 
 @dataclass(frozen=True)

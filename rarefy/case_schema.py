@@ -239,8 +239,10 @@ def _species(chk: Checker, gas: dict) -> GasSpec:
 
 
 def _mixture(chk: Checker, gas: dict, names: list, canon: dict) -> GasSpec:
-    """A mixture: species a list of distinct monatomic species, mole_fractions its
-    default composition."""
+    """A mixture: species a list of distinct species, mole_fractions its default
+    composition. Molecules in it take ``rotation`` (one value for every molecule, or a
+    table by species), ``vibration`` (every molecule with vibrational data) and
+    ``vibration_number`` as a pure gas does."""
     from rarefy.gas.species import SPECIES
 
     if not 2 <= len(names) <= MAX_SPECIES:
@@ -253,23 +255,67 @@ def _mixture(chk: Checker, gas: dict, names: list, canon: dict) -> GasSpec:
         s = canon[n.strip().lower()]
         if s in species:
             chk.fail(f"gas.species[{k}]", f"{s} is listed twice")
-        if SPECIES[s].rot_dof:
-            chk.fail(f"gas.species[{k}]", f"{s} is a molecule: mixtures of this version hold "
-                     "monatomic gases only (He, Ne, Ar, Kr, Xe); simulate it as a pure gas")
         species.append(s)
     model = chk.choice(gas.get("model", "vhs"), "gas.model", MODELS)
     for s in species:
         if model == "vss" and SPECIES[s].alpha is None:
             chk.fail("gas.model", f'"vss" needs VSS data, which {s} lacks; allowed: hs, vhs')
-    for key in ("rotation", "vibration", "vibration_number"):
-        if key in gas:
-            chk.fail(f"gas.{key}", "a mixture of monatomic gases has no internal energy; "
-                                   "remove the key")
+    molecules = [s for s in species if SPECIES[s].rot_dof]
+    if not molecules:
+        for key in ("rotation", "vibration", "vibration_number"):
+            if key in gas:
+                chk.fail(f"gas.{key}", "a mixture of monatomic gases has no internal "
+                                       "energy; remove the key")
     fractions = mole_fractions(chk, chk.require(gas, "gas", "mole_fractions",
                                                 f"one number per species, summing to 1, e.g. "
                                                 f"[{', '.join(['0.5'] * len(species))}]"),
                                "gas.mole_fractions", len(species))
-    return GasSpec(species[0], model, mixture=tuple(species), mole_fractions=fractions)
+    if not molecules:
+        return GasSpec(species[0], model, mixture=tuple(species), mole_fractions=fractions)
+    rotation = _mixture_rotation(chk, gas.get("rotation", DEFAULT_ZROT), species)
+    vibration = chk.boolean(gas.get("vibration", False), "gas.vibration")
+    for s in molecules:
+        if vibration and SPECIES[s].theta_vib_k is None:
+            chk.fail("gas.vibration", f"no vibrational data for {s}: rarefy models the one "
+                                      "mode of diatomic molecules (H2, N2, O2); allowed: false")
+    number = None
+    if "vibration_number" in gas and not vibration:
+        chk.fail("gas.vibration_number", "allowed only with vibration = true")
+    if vibration:
+        number = _collision_number(chk, gas.get("vibration_number", "millikan-white"),
+                                   "gas.vibration_number", "millikan-white", True,
+                                   ", ".join(molecules))
+    return GasSpec(species[0], model, rotation, vibration, number, "rotation" in gas,
+                   mixture=tuple(species), mole_fractions=fractions)
+
+
+def _mixture_rotation(chk: Checker, value: Any, species: list) -> tuple:
+    """Z_rot of every species of a mixture (None for monatomic ones): one value for every
+    molecule, or a table by species name (molecules left out take the default)."""
+    from rarefy.gas.species import SPECIES
+
+    molecules = [s for s in species if SPECIES[s].rot_dof]
+    if isinstance(value, dict):
+        canon = {s.lower(): s for s in molecules}
+        table = {}
+        for name, v in value.items():
+            s = canon.get(name.strip().lower())
+            if s is None:
+                chk.fail(f"gas.rotation.{name}", "names no molecule of the mixture; allowed: "
+                                                 f"{', '.join(molecules)}")
+            table[s] = _collision_number(chk, v, f"gas.rotation.{name}", "parker",
+                                         SPECIES[s].parker is not None, s)
+        return tuple(table.get(s, DEFAULT_ZROT) if SPECIES[s].rot_dof else None
+                     for s in species)
+    if isinstance(value, str) and value.strip().lower() == "parker":
+        lacking = [s for s in molecules if SPECIES[s].parker is None]
+        if lacking:
+            chk.fail("gas.rotation", f'"parker" needs published constants, which '
+                                     f"{', '.join(lacking)} lacks; give a number >= 1, or a "
+                                     'table by species, e.g. {N2 = "parker", '
+                                     f"{lacking[0]} = 5}}")
+    z = _collision_number(chk, value, "gas.rotation", "parker", True, molecules[0])
+    return tuple(z if SPECIES[s].rot_dof else None for s in species)
 
 
 def mole_fractions(chk: Checker, value: Any, key: str, count: int) -> tuple[float, ...]:

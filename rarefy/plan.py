@@ -89,6 +89,15 @@ class Plan:
     theta_vib_k: float = 0.0
     vib_collision_number: float = 0.0   # Z_vib at the reference temperature
     gamma: float = 5.0 / 3.0
+    # per species, in index order (a pure gas: one entry, the same as the fields above;
+    # a mixture's fields above hold only rot_dof = the largest, vibration and gamma)
+    species_rot_dof: tuple = ()
+    species_rotation: tuple = ()                   # "constant", "parker" or "" (monatomic)
+    species_rot_collision_number: tuple = ()
+    species_rot_selection_probability: tuple = ()  # against like molecules
+    species_rot_floor_temperature_k: tuple = ()
+    species_theta_vib_k: tuple = ()                # 0 where the species does not vibrate
+    species_vib_collision_number: tuple = ()
     chosen: dict = field(default_factory=dict)  # key -> "case" or "auto"
     histogram_speed_max_m_s: float = 0.0
     histogram_bins: int = DEFAULT_HISTOGRAM_BINS
@@ -113,11 +122,25 @@ class Plan:
     def warnings(self) -> list[str]:
         """Resolution diagnostics that fail the usual limits."""
         out = []
-        if self.rot_dof and self.rot_selection_probability >= 0.5:
-            out.append(f"Z_rot = {self.rot_collision_number:.3g} is below what Larsen-"
-                       "Borgnakke exchange can reach for "
-                       f"{self.gas}: one molecule of every pair relaxes in every collision, "
-                       "so rotation relaxes more slowly than Z_rot says")
+        for k, name in enumerate(self.species):
+            if not self.species_rot_dof or not self.species_rot_dof[k]:
+                continue
+            if self.species_rot_selection_probability[k] >= 0.5:
+                out.append(f"Z_rot = {self.species_rot_collision_number[k]:.3g} is below what "
+                           "Larsen-Borgnakke exchange can reach for "
+                           f"{name}: one molecule of every pair relaxes in every collision, "
+                           "so rotation relaxes more slowly than Z_rot says")
+            floor = self.species_rot_floor_temperature_k[k]
+            if self.species_rotation[k] == "parker" and \
+                    floor > 0.5 * self.reference_temperature_k:
+                out.append(f"below {floor:.3g} K Parker's Z_rot for {name} is smaller than "
+                           "Larsen-Borgnakke exchange can reach (one molecule of a pair per "
+                           "collision): colder gas relaxes its rotation more slowly than "
+                           "Parker's formula says")
+            if name == "H2" and self.chosen.get("rotation") == "auto":
+                out.append("H2 relaxes its rotation in hundreds of collisions near room "
+                           "temperature, not the default Z_rot = "
+                           f"{self.species_rot_collision_number[k]:g}; set gas.rotation")
         for name, lam in zip(self.species, self.species_mean_free_path_m):
             ratio = max(self.cell_dx_m, self.cell_dy_m) / lam
             if ratio > LIMIT_CELL_OVER_MFP * 1.05 and lam < 0.7 * self.mean_free_path_m:
@@ -125,16 +148,6 @@ class Plan:
                            f"the mixture's mean free path: cells are {ratio:.2f} of it "
                            f"(usual limit {LIMIT_CELL_OVER_MFP:.2f}); refine "
                            f"resolution.cell_size if {name}'s transport matters")
-        floor = self.rot_floor_temperature_k
-        if self.rotation == "parker" and floor > 0.5 * self.reference_temperature_k:
-            out.append(f"below {floor:.3g} K Parker's Z_rot for {self.gas} is smaller than "
-                       "Larsen-Borgnakke exchange can reach (one molecule of a pair per "
-                       "collision): colder gas relaxes its rotation more slowly than "
-                       "Parker's formula says")
-        if self.gas == "H2" and self.chosen.get("rotation") == "auto":
-            out.append("H2 relaxes its rotation in hundreds of collisions near room "
-                       f"temperature, not the default Z_rot = {self.rot_collision_number:g};"
-                       " set gas.rotation")
         if self.cell_over_mfp > LIMIT_CELL_OVER_MFP * 1.05:
             out.append(f"cell size is {self.cell_over_mfp:.2f} mean free paths "
                        f"(usual limit {LIMIT_CELL_OVER_MFP:.2f}): collisions act over "
@@ -382,33 +395,53 @@ def _resolve(case: Case) -> Plan:
         nx=nx, ny=ny, cell_dx_m=dx, cell_dy_m=dy, subcells=subcells, time_step_s=dt,
         particle_weight=fnum, particles_per_cell=ppc, settle_steps=settle,
         sample_steps=sample, batches=batches,
-        expected_particles=ppc * nx * ny, **_internal(case, sp, model, t_ref, chosen),
+        expected_particles=ppc * nx * ny, **_internal(case, t_ref, chosen),
         chosen=chosen, histogram_speed_max_m_s=histogram_speed_max(case, light),
         histogram_bins=case.histograms.bins or DEFAULT_HISTOGRAM_BINS,
     )
 
 
-def _internal(case: Case, sp, model, t_ref: float, chosen: dict) -> dict:
-    """Plan entries of the internal energy (``rarefy.gas.internal``)."""
+def _internal(case: Case, t_ref: float, chosen: dict) -> dict:
+    """Plan entries of the internal energy (``rarefy.gas.internal``), per species and,
+    for a pure gas, also as single values."""
     g = case.gas
-    if not sp.rot_dof:
-        return {"rot_dof": 0}
+    mix = mixture_of(g)
+    rows = [_species_internal(g, k, get_species(name), mix.models[k], t_ref)
+            for k, name in enumerate(mix.names)]
+    per = {key: tuple(r[key] for r in rows) for key in rows[0]}
+    out = {f"species_{key}": v for key, v in per.items()}
+    if not any(per["rot_dof"]):
+        return out
     chosen["rotation"] = "case" if g.rotation_set else "auto"
-    floor = 0.0
-    if g.rotation == "parker":
+    vibration = any(t > 0.0 for t in per["theta_vib_k"])
+    out.update(rot_dof=max(per["rot_dof"]), vibration=vibration,
+               gamma=internal.gamma_of_mixture(mix.fractions, per["rot_dof"], t_ref,
+                                               per["theta_vib_k"] if vibration else None))
+    if mix.nspecies == 1:
+        out.update({key: v[0] for key, v in per.items() if key != "rot_dof"})
+    return out
+
+
+def _species_internal(g, k: int, sp, model, t_ref: float) -> dict:
+    """Internal-energy entries of species k (zeros for a monatomic one)."""
+    out = dict(rot_dof=sp.rot_dof, rotation="", rot_collision_number=0.0,
+               rot_selection_probability=0.0, rot_floor_temperature_k=0.0,
+               theta_vib_k=0.0, vib_collision_number=0.0)
+    if not sp.rot_dof:
+        return out
+    setting = g.rotation_of(k)
+    if setting == "parker":
         z = float(internal.parker_zrot(t_ref, *sp.parker))
-        floor = internal.parker_floor_temperature(sp.parker, sp.rot_dof, model.omega)
+        out["rot_floor_temperature_k"] = internal.parker_floor_temperature(
+            sp.parker, sp.rot_dof, model.omega)
     else:
-        z = float(g.rotation)
-    out = {"rot_dof": sp.rot_dof, "rotation": "parker" if g.rotation == "parker" else
-           "constant", "rot_collision_number": z,
-           "rot_selection_probability": internal.selection_probability(z, sp.rot_dof,
-                                                                        model.omega),
-           "rot_floor_temperature_k": floor,
-           "gamma": internal.gamma_of_gas(sp.rot_dof)}
+        z = float(setting)
+    out.update(rotation="parker" if setting == "parker" else "constant",
+               rot_collision_number=z,
+               rot_selection_probability=internal.selection_probability(z, sp.rot_dof,
+                                                                         model.omega))
     if g.vibration:
-        out.update(vibration=True, theta_vib_k=sp.theta_vib_k,
-                   gamma=internal.gamma_of_gas(sp.rot_dof, t_ref, sp.theta_vib_k),
+        out.update(theta_vib_k=sp.theta_vib_k,
                    vib_collision_number=vib_collision_number(g, model, t_ref, sp.theta_vib_k))
     return out
 
@@ -465,18 +498,35 @@ def format_plan(plan: Plan) -> str:
     return "\n".join(lines)
 
 
+_INTERNAL_KEYS = ("rot_dof", "rotation", "rot_collision_number", "theta_vib_k",
+                  "vib_collision_number")
+
+
 def internal_line(plan: Plan) -> str:
-    """One line on the internal energy the run exchanges."""
+    """One line on the internal energy the run exchanges (of a mixture, one part per
+    molecular species)."""
     if not plan.rot_dof:
         return "none (monatomic), gamma 5/3"
-    how = ("Parker's formula" if plan.rotation == "parker"
-           else plan.chosen.get("rotation", "case"))
-    at = f" at {plan.reference_temperature_k:.4g} K" if plan.rotation == "parker" else ""
-    text = (f"rotation {plan.rot_dof} dof, Z_rot {plan.rot_collision_number:.3g}{at} ({how});"
-            f" vibration ")
-    if plan.vibration:
-        text += (f"on (theta {plan.theta_vib_k:g} K, Z_vib "
-                 f"{plan.vib_collision_number:.3g} at {plan.reference_temperature_k:.4g} K)")
-    else:
-        text += "frozen"
-    return text + f"; gamma {plan.gamma:.4g}"
+    if plan.species_rot_dof:
+        rows = [dict(zip(_INTERNAL_KEYS, v)) for v in zip(
+            *(getattr(plan, f"species_{key}") for key in _INTERNAL_KEYS))]
+    else:   # a plan stored by a version without per-species entries
+        rows = [{key: getattr(plan, key) for key in _INTERNAL_KEYS}]
+        rows[0]["theta_vib_k"] *= plan.vibration
+    parts = [(f"{plan.species[k]}: " if len(rows) > 1 else "")
+             + _species_internal_text(plan, row)
+             for k, row in enumerate(rows) if row["rot_dof"]]
+    return "; ".join(parts) + f"; gamma {plan.gamma:.4g}"
+
+
+def _species_internal_text(plan: Plan, row: dict) -> str:
+    parker = row["rotation"] == "parker"
+    how = "Parker's formula" if parker else plan.chosen.get("rotation", "case")
+    at = f" at {plan.reference_temperature_k:.4g} K" if parker else ""
+    text = (f"rotation {row['rot_dof']} dof, Z_rot {row['rot_collision_number']:.3g}{at} "
+            f"({how}); vibration ")
+    if row["theta_vib_k"] > 0.0:
+        return text + (f"on (theta {row['theta_vib_k']:g} K, Z_vib "
+                       f"{row['vib_collision_number']:.3g} at "
+                       f"{plan.reference_temperature_k:.4g} K)")
+    return text + "frozen"

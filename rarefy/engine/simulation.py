@@ -35,7 +35,7 @@ from rarefy.kernels.sample import sample_probes
 from rarefy.threads import run_parallel
 from rarefy.plan import Plan
 from rarefy.gas.mixture import mixture_of
-from rarefy.post.fields import cell_fields
+from rarefy.post.fields import cell_fields, species_internal
 from rarefy.sampling.accumulators import Accumulators
 
 __all__ = ["Simulation", "PHASES", "RunStopped", "RESEED_EVERY"]
@@ -88,11 +88,11 @@ class Simulation:
         sp = get_species(case.gas.species)
         self.model = sp.model(case.gas.model)
         self.mass = plan.mass_kg     # of a mixture, the mean at its fractions
-        self.ip = kernel_parameters(plan, self.model, sp, case.gas.vibration_number)
-        self.n_internal = internal_rows(plan)
         # mixtures (rarefy.gas.mixture): species row after the internal rows; masses over
         # the plan's mean mass; walls' sqrt(kT/m) scaled per species
         self.mix = mixture_of(case.gas)
+        self.ip = kernel_parameters(plan, self.mix.models, case.gas.vibration_number)
+        self.n_internal = internal_rows(plan)
         self.nsp = self.mix.nspecies
         self.masses = self.mix.masses if self.nsp > 1 else np.array([self.mass])
         self.mass_ratio = self.masses / plan.mass_kg if self.nsp > 1 else np.ones(1)
@@ -210,17 +210,31 @@ class Simulation:
         self.store.add(*(np.asarray(a)[keep] for a in (x, y, vx, vy, vz, *internal)))
         self._index()
 
-    def equilibrium_internal(self, rng: np.random.Generator, count: int,
-                             t_k: float) -> list[np.ndarray]:
+    def equilibrium_internal(self, rng: np.random.Generator, count: int, t_k: float,
+                             species: np.ndarray | None = None) -> list[np.ndarray]:
         """Internal energies per unit mass (m^2/s^2) of ``count`` molecules in equilibrium
-        at ``t_k``: rotation Gamma(zeta_r / 2) kT, vibration whole quanta (geometric)."""
+        at ``t_k``: rotation Gamma(zeta_r / 2) kT, vibration whole quanta (geometric);
+        a mixture's molecules by their ``species`` (monatomic ones get zeros)."""
         if not self.n_internal:
             return []
-        kt_m = K_B * t_k / self.mass
-        rows = [rng.gamma(0.5 * self.plan.rot_dof, kt_m, count)]
-        if self.plan.vibration:
-            th = K_B * self.plan.theta_vib_k / self.mass
-            rows.append(np.floor(rng.exponential(kt_m / th, count)) * th)
+        p = self.plan
+        if species is None:
+            kt_m = K_B * t_k / self.mass
+            rows = [rng.gamma(0.5 * p.rot_dof, kt_m, count)]
+            if p.vibration:
+                th = K_B * p.theta_vib_k / self.mass
+                rows.append(np.floor(rng.exponential(kt_m / th, count)) * th)
+            return rows
+        rows = [np.zeros(count) for _ in range(self.n_internal)]
+        for k, dof in enumerate(p.species_rot_dof):
+            sel = np.flatnonzero(species == k)
+            if not dof or not sel.size:
+                continue
+            kt_m = K_B * t_k / self.masses[k]
+            rows[0][sel] = rng.gamma(0.5 * dof, kt_m, sel.size)
+            if p.species_theta_vib_k[k] > 0.0:
+                th = K_B * p.species_theta_vib_k[k] / self.masses[k]
+                rows[1][sel] = np.floor(rng.exponential(kt_m / th, sel.size)) * th
         return rows
 
     def _fill_initial(self) -> None:
@@ -243,7 +257,7 @@ class Simulation:
             count = rng.poisson(n * lx * (g.box[3] - g.box[2]) * g.depth / self.fnum)
             y = rng.uniform(g.box[2], g.box[3], count)
         sig = math.sqrt(K_B * init.temperature_k / self.mass)
-        species = []
+        species, spc = [], None
         if self.nsp > 1:   # each molecule's species drawn by the mole fractions
             spc = rng.choice(self.nsp, count, p=init.mole_fractions or self.mix.fractions)
             sig = np.sqrt(K_B * init.temperature_k / self.masses)[spc]
@@ -253,7 +267,7 @@ class Simulation:
                            u[0] + sig * rng.standard_normal(count),
                            u[1] + sig * rng.standard_normal(count),
                            u[2] + sig * rng.standard_normal(count),
-                           *self.equilibrium_internal(rng, count, init.temperature_k),
+                           *self.equilibrium_internal(rng, count, init.temperature_k, spc),
                            *species)
 
     def _index(self) -> None:
@@ -353,7 +367,7 @@ class Simulation:
 
     def _batch_fields(self, sums: np.ndarray, nsteps: int) -> dict:
         return cell_fields(sums, nsteps, self.geom.volume, self.masses, self.cell_fnum,
-                           self.plan.rot_dof, self.plan.theta_vib_k, self.mix.names)
+                           *species_internal(self.plan), self.mix.names)
 
     def _after_step(self, phase: str, done: int, total: int, progress, every: int,
                     checkpoint) -> None:

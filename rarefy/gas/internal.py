@@ -48,6 +48,7 @@ __all__ = [
     "vibrational_temperature",
     "millikan_white_p_tau",
     "gamma_of_gas",
+    "gamma_of_mixture",
 ]
 
 # Rotational collision number when a case gives none: the value commonly used in DSMC
@@ -105,10 +106,13 @@ def vib_box_relaxation_rate(z: float, t_k: float, theta_k: float) -> float:
     return (1.0 + 0.4 * c_v) / z
 
 
-def box_relaxation_rate(z: float, rot_dof: int) -> float:
+def box_relaxation_rate(z: float, rot_dof: int, fraction: float = 1.0) -> float:
     """Decay rate of T_tr - T_rot per collision of one molecule in a closed box,
-    (1 + zeta_r / 3) / Z_rot (Jeans equation with energy conservation)."""
-    return (1.0 + rot_dof / 3.0) / z
+    (1 + x zeta_r / 3) / Z_rot (Jeans equation with energy conservation), x the mole
+    fraction of the rotating molecules when they are mixed with monatomic gas (whose
+    3/2 k T per molecule takes part in the exchange: 3 T_tr + x zeta_r T_rot is
+    conserved)."""
+    return (1.0 + fraction * rot_dof / 3.0) / z
 
 
 def vibrational_energy(t_k, theta_k: float):
@@ -149,3 +153,17 @@ def gamma_of_gas(rot_dof: int, t_k=None, theta_k: float | None = None) -> float:
         x = theta_k / float(t_k)
         zeta += 2.0 * (0.5 * x / math.sinh(0.5 * x)) ** 2 if x < 700 else 0.0
     return (5.0 + zeta) / (3.0 + zeta)
+
+
+def gamma_of_mixture(fractions, rot_dofs, t_k=None, thetas=None) -> float:
+    """Ratio of specific heats of an ideal-gas mixture, sum x_k (5 + zeta_k) /
+    sum x_k (3 + zeta_k) (heat capacities add by mole fraction; zeta_k as in
+    :func:`gamma_of_gas`, with vibration where ``thetas[k]`` > 0)."""
+    num = den = 0.0
+    for k, (x, dof) in enumerate(zip(fractions, rot_dofs)):
+        theta = thetas[k] if thetas is not None and thetas[k] > 0.0 else None
+        g = gamma_of_gas(dof, t_k, theta)
+        zeta = 2.0 / (g - 1.0) - 3.0            # (5 + zeta) / (3 + zeta) = g
+        num += x * (5.0 + zeta)
+        den += x * (3.0 + zeta)
+    return num / den

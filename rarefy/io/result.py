@@ -70,7 +70,7 @@ import numpy as np
 from rarefy import __version__
 from rarefy.io.atomic import atomic_path
 from rarefy.kernels.config import T_HITS
-from rarefy.post.fields import cell_fields, field_unit
+from rarefy.post.fields import cell_fields, field_unit, species_internal
 
 __all__ = ["RESULT_NAME", "FORMAT", "ResultData", "ResultFormatError", "write_result",
            "read_result"]
@@ -250,7 +250,7 @@ def _write(tmp: Path, sim, interrupted: bool, status: str | None) -> None:
     nb = acc.batch
     nsteps = max(1, nb * acc.steps_per_batch)
     fields = cell_fields(acc.cell_total, nsteps, geom.volume, sim.masses, sim.cell_fnum,
-                         plan.rot_dof, plan.theta_vib_k, sim.mix.names)
+                         *species_internal(plan), sim.mix.names)
     nsp = sim.nsp
     axisymmetric = sim.case.domain.geometry == "axisymmetric"
     with h5py.File(tmp, "w") as f:

@@ -22,7 +22,7 @@ A point uniform in the unit disk gives the azimuth without sine or cosine and, t
 its squared radius q (uniform on (0, 1), independent of the azimuth), the deflection:
 isotropic directions are then Marsaglia's (1972) (2q - 1, 2u sqrt(1 - q), 2v sqrt(1 - q)).
 
-Molecules with internal energy (``ip[IP_ROT_DOF]`` > 0) exchange it with the pair's
+Molecules with internal energy (``ip[k, IP_ROT_DOF]`` > 0) exchange it with the pair's
 relative motion by Larsen-Borgnakke before the scattering (``rarefy.kernels.internal``);
 the relative speed is then sqrt(4 E_t / m) of the new translational energy.
 With Parker's Z_rot or Millikan-White's Z_vib the cell's translational temperature (of
@@ -32,7 +32,10 @@ probabilities.
 Mixtures: candidates are drawn from all molecules of the cell with one (sigma c_r)_max
 over all pairs and accepted with the pair's own sigma_pq c_r (mixing rules in
 ``rarefy.gas.mixture``), which gives every pair its kinetic-theory rate; the pair scatters
-about its centre of mass (masses m_p, m_q).
+about its centre of mass (masses m_p, m_q). Molecules of a mixture exchange internal
+energy by ``rarefy.kernels.internal.exchange_mixed`` with the pair's reduced mass
+(E_t = m_r c_r^2 / 2) and omega_pq; with Parker's or Millikan-White's numbers the cell's
+temperature is that of all its molecules about their mass-averaged velocity.
 
 When sampling, each cell's moments are added with weight 1/2 before and after its
 collisions while the cell is in cache (see ``rarefy.kernels.sample``).
@@ -44,7 +47,7 @@ from numba import njit, prange
 from rarefy.kernels.config import (
     IP_M_OVER_K, IP_ROT_DOF, IP_ROT_MODE, IP_VIB_MODE, IP_VIB_TH, JIT, serial_and_parallel,
 )
-from rarefy.kernels.internal import cell_probabilities, exchange
+from rarefy.kernels.internal import cell_probabilities, exchange, exchange_mixed, inverse_numbers
 from rarefy.kernels.rng import stream, uniform, unit_disk
 from rarefy.kernels.sample import add_cell_moments, add_cell_moments_mixed
 
@@ -85,20 +88,37 @@ def cell_temperature(lo, hi, vx, vy, vz, m_over_k):
     return m_over_k * var / 3.0
 
 
+@njit(**JIT)
+def cell_temperature_mixed(lo, hi, vx, vy, vz, spc, mr, m_over_k):
+    """Translational temperature (K) of a mixture's particles lo..hi-1 of masses
+    ``mr[spc[i]]`` (reference masses; ``m_over_k`` = m_ref / k): sum m (c - u)^2 / (3 k)
+    about the mass-averaged velocity u, over N - 1."""
+    sm = smx = smy = smz = s2 = 0.0
+    for i in range(lo, hi):
+        m = mr[int(spc[i])]
+        sm += m
+        smx += m * vx[i]
+        smy += m * vy[i]
+        smz += m * vz[i]
+        s2 += m * (vx[i] * vx[i] + vy[i] * vy[i] + vz[i] * vz[i])
+    return m_over_k * (s2 - (smx * smx + smy * smy + smz * smz) / sm) / (3.0 * (hi - lo - 1))
+
+
 @njit(inline="always", **JIT)
 def _moments(lo, hi, vx, vy, vz, eint, spc, nsp, moments, c, weight):
     if nsp > 1:
-        add_cell_moments_mixed(lo, hi, vx, vy, vz, spc, moments, c, weight)
+        add_cell_moments_mixed(lo, hi, vx, vy, vz, eint, spc, moments, c, weight)
     else:
         add_cell_moments(lo, hi, vx, vy, vz, eint, moments, c, weight)
 
 
 @njit(**JIT)
 def _collide_mixed(s, i, j, urx, ury, urz, cr, vx, vy, vz, spc, mr, a_pair, e_pair, al_pair,
-                   cmax):
-    """One candidate pair of a mixture: accept with sigma_pq c_r / (sigma c_r)_max and
-    scatter about the centre of mass (masses m_p, m_q). Returns (counter, sigma c_r if
-    accepted, else -sigma c_r)."""
+                   cmax, eint, ip, zc, inner):
+    """One candidate pair of a mixture: accept with sigma_pq c_r / (sigma c_r)_max,
+    exchange internal energy when ``inner`` (``zc[k]``: species k's inverse collision
+    numbers in this cell) and scatter about the centre of mass (masses m_p, m_q).
+    Returns (counter, sigma c_r if accepted, else -sigma c_r)."""
     p = int(spc[i])
     q = int(spc[j])
     sigcr = a_pair[p, q] * cr ** e_pair[p, q]
@@ -111,6 +131,17 @@ def _collide_mixed(s, i, j, urx, ury, urz, cr, vx, vy, vz, spc, mr, a_pair, e_pa
     cmx = (mi * vx[i] + mj * vx[j]) / msum
     cmy = (mi * vy[i] + mj * vy[j]) / msum
     cmz = (mi * vz[i] + mj * vz[j]) / msum
+    if inner:
+        m_red = mi * mj / msum
+        et = 0.5 * m_red * cr * cr
+        s, et = exchange_mixed(s, eint, i, j, et, mi, mj, ip[p], ip[q], zc[p], zc[q],
+                               1.0 - 0.5 * e_pair[p, q])
+        crn = np.sqrt(2.0 * et / m_red)
+        f = crn / cr
+        urx *= f
+        ury *= f
+        urz *= f
+        cr = crn
     s, nx, ny, nz = scatter(s, urx, ury, urz, cr, al_pair[p, q])
     fi = mj / msum
     fj = mi / msum
@@ -136,7 +167,8 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
     cell_fnum : float64[ncell], real molecules per simulated particle in each cell.
     a_coef, exponent : sigma_T c_r = a_coef * c_r**exponent (m^3/s).
     eint : float64[rows, capacity], internal energies per unit mass (rows: rotation, then
-        vibration; none for a monatomic gas); ``ip`` their parameters (``IP_*``).
+        vibration; none for a monatomic gas); ``ip[k]`` the parameters (``IP_*``) of
+        species k.
     spc, mr, a_pair, e_pair, al_pair : mixtures of nsp = len(mr) > 1 species: the
         species row, the masses over the reference mass, and per pair (p, q) the
         sigma_T c_r coefficient, exponent and VSS alpha (``rarefy.gas.mixture``; one
@@ -152,9 +184,15 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
     nsp = mr.shape[0]
     pairs = stats.shape[0] > 3
     hard = exponent == 1.0
-    inner = ip[IP_ROT_DOF] > 0.0
-    per_cell = inner and (ip[IP_ROT_MODE] == 1.0 or (ip[IP_VIB_TH] > 0.0
-                                                     and ip[IP_VIB_MODE] == 1.0))
+    inner = eint.shape[0] > 0
+    per_cell = False
+    for k in range(nsp):
+        per_cell = per_cell or (ip[k, IP_ROT_DOF] > 0.0 and (
+            ip[k, IP_ROT_MODE] == 1.0 or (ip[k, IP_VIB_TH] > 0.0
+                                          and ip[k, IP_VIB_MODE] == 1.0)))
+    ip0 = ip[0]
+    # a mixture's inverse collision numbers, per cell and species (rotation, vibration)
+    zinv = np.empty((ncell if inner and nsp > 1 else 1, nsp, 2))
     n_coll = 0.0                  # whole numbers: their parallel sum is exact
     n_cand = 0.0
     sep_cell = np.zeros(ncell)    # summed in cell order below, whatever the threads
@@ -179,9 +217,16 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
         pvib = 0.0
         if inner:
             t_cell = 0.0
-            if per_cell and ncand > 0:
-                t_cell = cell_temperature(lo, hi, vx, vy, vz, ip[IP_M_OVER_K])
-            prot, pvib = cell_probabilities(ip, t_cell)
+            if nsp > 1:
+                if per_cell and ncand > 0:
+                    t_cell = cell_temperature_mixed(lo, hi, vx, vy, vz, spc, mr,
+                                                    ip0[IP_M_OVER_K] / mr[0])
+                for k in range(nsp):
+                    zinv[c, k, 0], zinv[c, k, 1] = inverse_numbers(ip[k], t_cell)
+            else:
+                if per_cell and ncand > 0:
+                    t_cell = cell_temperature(lo, hi, vx, vy, vz, ip0[IP_M_OVER_K])
+                prot, pvib = cell_probabilities(ip0, t_cell)
         c_coll = 0
         c_sep = 0.0
         for _ in range(ncand):
@@ -213,8 +258,14 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
             if cr == 0.0:
                 continue
             if nsp > 1:
-                s, ok = _collide_mixed(s, i, j, urx, ury, urz, cr, vx, vy, vz, spc, mr,
-                                       a_pair, e_pair, al_pair, cmax)
+                if inner:
+                    s, ok = _collide_mixed(s, i, j, urx, ury, urz, cr, vx, vy, vz, spc, mr,
+                                           a_pair, e_pair, al_pair, cmax, eint, ip, zinv[c],
+                                           True)
+                else:
+                    s, ok = _collide_mixed(s, i, j, urx, ury, urz, cr, vx, vy, vz, spc, mr,
+                                           a_pair, e_pair, al_pair, cmax, eint, ip, zinv[0],
+                                           False)
                 if ok < 0.0:        # rejected; -ok is sigma c_r (the maximum may rise)
                     cmax = max(cmax, -ok)
                     continue
@@ -239,7 +290,7 @@ def collide_cells_py(ncell, nsub, key_start, x, y, vx, vy, vz, volume, sigcr_max
             cmz = 0.5 * (vz[i] + vz[j])
             if inner:
                 et = 0.25 * cr * cr
-                s, et = exchange(s, eint, i, j, et, prot, pvib, ip)
+                s, et = exchange(s, eint, i, j, et, prot, pvib, ip0)
                 crn = 2.0 * np.sqrt(et)
                 f = crn / cr
                 urx *= f

@@ -53,7 +53,7 @@ def inject(inflow, n, x, y, vx, vy, vz, eint, ip, spc, nsp, tfrac):
     ``inflow[k]`` holds side, start, end, position of the side, v_mp, drift
     (ux, uy, uz) and the expected number per step. ``tfrac`` receives each new
     molecule's fraction of the step still to fly. Internal energies (``eint``, parameters
-    ``ip``) are drawn in equilibrium at the reservoir's temperature: the flux of
+    ``ip[k]`` of species k) are drawn in equilibrium at the reservoir's temperature: the flux of
     molecules through a plane is weighted by their velocity only. With ``nsp`` > 1
     species, ``spc`` (the species row) receives each molecule's species.
     """
@@ -88,7 +88,7 @@ def inject(inflow, n, x, y, vx, vy, vz, eint, ip, spc, nsp, tfrac):
                 vy[m] = sign * vn
                 vx[m] = ux + sig * np.random.standard_normal()
             vz[m] = uz + sig * np.random.standard_normal()
-            inject_internal(eint, m, ip, sig * sig)
+            inject_internal(eint, m, ip[int(inflow[k, I_SPEC])], sig * sig)
             if nsp > 1:
                 spc[m] = inflow[k, I_SPEC]
             tfrac[m - n] = np.random.random()

@@ -26,7 +26,8 @@ from numba import njit
 
 from rarefy.kernels.config import (
     IP_MW_A, IP_MW_B, IP_NU_P, IP_OMEGA, IP_ROT_DOF, IP_ROT_FACTOR, IP_ROT_MODE, IP_ROT_P,
-    IP_THETA, IP_TSTAR, IP_VIB_FACTOR, IP_VIB_MODE, IP_VIB_P, IP_VIB_TH, IP_ZINF, JIT,
+    IP_ROT_ZINV, IP_THETA, IP_TSTAR, IP_VIB_FACTOR, IP_VIB_MODE, IP_VIB_P, IP_VIB_TH,
+    IP_VIB_ZINV, IP_ZINF, JIT,
 )
 from rarefy.constants import ATM_PA
 from rarefy.kernels.rng import normal, uniform
@@ -78,9 +79,13 @@ def wall_internal(s, eint, i, diffuse, sigma, ip):
 @njit(**JIT)
 def inject_internal(eint, m, ip, kt_m):
     """Equilibrium internal energy of a molecule entering from a reservoir at kT/m
-    ``kt_m`` (numba's seeded generator, as the rest of the inflow)."""
+    ``kt_m`` (numba's seeded generator, as the rest of the inflow). A monatomic species
+    of a mixture with molecules gets zeros in the rows (the slot may hold a former
+    particle's energies)."""
     dof = ip[IP_ROT_DOF]
     if dof == 0.0:
+        for row in range(eint.shape[0]):
+            eint[row, m] = 0.0
         return
     e = -np.log(1.0 - np.random.random())
     if dof == 3.0:
@@ -90,6 +95,8 @@ def inject_internal(eint, m, ip, kt_m):
     th = ip[IP_VIB_TH]
     if th > 0.0:
         eint[1, m] = np.floor(-np.log(1.0 - np.random.random()) * kt_m / th) * th
+    elif eint.shape[0] > 1:
+        eint[1, m] = 0.0
 
 
 @njit(**JIT)
@@ -123,6 +130,25 @@ def vib_level(s, ec, th, expo):
         s, r = uniform(s)
         if (1.0 - lev * th / ec) ** expo >= r:
             return s, lev * th
+
+
+@njit(**JIT)
+def inverse_numbers(ip, t_cell):
+    """(1/Z_rot, 1/Z_vib) of one species (its row ``ip``) in a cell at translational
+    temperature ``t_cell`` (K; <= 0: the plan's reference values): constants, Parker's
+    Z_rot(T) or Millikan-White's Z_vib(T). A mixture turns them into selection
+    probabilities per pair (:func:`exchange_mixed`)."""
+    zr = ip[IP_ROT_ZINV]
+    zv = ip[IP_VIB_ZINV]
+    if t_cell > 0.0:
+        if ip[IP_ROT_MODE] == 1.0:
+            x = ip[IP_TSTAR] / t_cell
+            zr = (1.0 + 0.5 * np.pi ** 1.5 * np.sqrt(x)
+                  + (np.pi + 0.25 * np.pi * np.pi) * x) / ip[IP_ZINF]
+        if ip[IP_VIB_MODE] == 1.0:
+            p_tau = np.exp(ip[IP_MW_A] * (t_cell ** (-1.0 / 3.0) - ip[IP_MW_B]) - 18.42) * ATM_PA
+            zv = 1.0 / max(1.0, p_tau * ip[IP_NU_P] * t_cell ** (-ip[IP_OMEGA]))
+    return zr, zv
 
 
 @njit(**JIT)
@@ -183,4 +209,61 @@ def exchange(s, eint, i, j, et, prot, pvib, ip):
         s, et = relax_rot(s, eint, i, et, ip)
     elif r < 2.0 * prot:
         s, et = relax_rot(s, eint, j, et, ip)
+    return s, et
+
+
+@njit(**JIT)
+def relax_rot_mass(s, eint, i, et, dof, omega, mi):
+    """:func:`relax_rot` in a mixture: energies per unit reference mass, molecule i of
+    mass ``mi`` (in reference masses), pair exponent ``omega``."""
+    ec = et + mi * eint[0, i]
+    s, f = beta_fraction(s, 0.5 * dof, 2.5 - omega)
+    er = f * ec
+    eint[0, i] = er / mi
+    return s, ec - er
+
+
+@njit(**JIT)
+def relax_vib_mass(s, eint, i, et, th, omega, mi):
+    """:func:`relax_vib` in a mixture (``th`` the quantum per unit mass of molecule i)."""
+    ec = et + mi * eint[1, i]
+    s, ev = vib_level(s, ec, th * mi, 1.5 - omega)
+    eint[1, i] = ev / mi
+    return s, ec - ev
+
+
+@njit(**JIT)
+def exchange_mixed(s, eint, i, j, et, mi, mj, ipi, ipj, zi, zj, omega):
+    """Larsen-Borgnakke exchange of a mixture's pair (i, j): molecules of masses ``mi``,
+    ``mj`` (reference masses), species rows ``ipi``, ``ipj``, inverse collision numbers
+    ``zi``, ``zj`` (rotation, vibration; this cell's), the pair's VHS exponent ``omega``
+    and relative translational energy ``et`` = m_r c_r^2 / 2 per unit reference mass.
+
+    As :func:`exchange`, with each molecule's own degrees of freedom and collision
+    number, and the pair's omega in the distributions and in the selection factor
+    (1 + zeta / (5 - 2 omega_pq)) / Z: a molecule relaxes against the collision-weighted
+    energy (5/2 - omega_pq) k T of the pair it is in. Monatomic partners (no rows) never
+    relax; at most one molecule relaxes per mode. Returns (next counter, new et)."""
+    di = ipi[IP_ROT_DOF]
+    dj = ipj[IP_ROT_DOF]
+    if di == 0.0 and dj == 0.0:
+        return s, et
+    expo = 5.0 - 2.0 * omega
+    thi = ipi[IP_VIB_TH]
+    thj = ipj[IP_VIB_TH]
+    if thi > 0.0 or thj > 0.0:
+        pi_ = min(0.5, (1.0 + 2.0 / expo) * zi[1]) if thi > 0.0 else 0.0
+        pj_ = min(0.5, (1.0 + 2.0 / expo) * zj[1]) if thj > 0.0 else 0.0
+        s, r = uniform(s)
+        if r < pi_:
+            s, et = relax_vib_mass(s, eint, i, et, thi, omega, mi)
+        elif r < pi_ + pj_:
+            s, et = relax_vib_mass(s, eint, j, et, thj, omega, mj)
+    pi_ = min(0.5, (1.0 + di / expo) * zi[0]) if di > 0.0 else 0.0
+    pj_ = min(0.5, (1.0 + dj / expo) * zj[0]) if dj > 0.0 else 0.0
+    s, r = uniform(s)
+    if r < pi_:
+        s, et = relax_rot_mass(s, eint, i, et, di, omega, mi)
+    elif r < pi_ + pj_:
+        s, et = relax_rot_mass(s, eint, j, et, dj, omega, mj)
     return s, et

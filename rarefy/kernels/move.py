@@ -162,9 +162,9 @@ def move_one(i, t, x, y, vx, vy, vz, eint, ip, spc, sfac, segs, seg_tally, box, 
              piece_int, planes, stally, ftally, sampling, nudge, rng_key):
     """Move particle ``i`` for time ``t`` (s). Returns False if it left the domain.
 
-    Surface interactions draw from the particle's stream under ``rng_key``; ``eint`` and
-    ``ip`` are the internal energies and their parameters (``rarefy.kernels.internal``).
-    Mixtures: ``spc[i]`` is the particle's species k, ``sfac[k]`` = sqrt(m_ref / m_k)
+    Surface interactions draw from the particle's stream under ``rng_key``; ``eint`` are
+    the internal energies and ``ip[k]`` the parameters of species k
+    (``rarefy.kernels.internal``). Mixtures: ``spc[i]`` is the particle's species k, ``sfac[k]`` = sqrt(m_ref / m_k)
     scales the walls' sqrt(k T_w / m_ref), and species k tallies into rows
     facet * nsp + k and plane * nsp + k (nsp = len(sfac); one species: row = facet)."""
     s = stream(rng_key, i)
@@ -242,7 +242,7 @@ def move_one(i, t, x, y, vx, vy, vz, eint, ip, spc, sfac, segs, seg_tally, box, 
             s, dif, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny,
                                             sf * segs[k_hit, W_SIGMA], segs[k_hit, W_ACC],
                                             segs[k_hit, W_VEL], tx, ty)
-            s, e0, e1 = wall_internal(s, eint, i, dif, sf * segs[k_hit, W_SIGMA], ip)
+            s, e0, e1 = wall_internal(s, eint, i, dif, sf * segs[k_hit, W_SIGMA], ip[sp])
             if sampling and seg_tally[k_hit, 1] > 0:
                 f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit) * nsp + sp
                 _tally_surface(stally, f, w0x, w0y, w0z, nvx, nvy, nvz, nx, ny, tx, ty, e0,
@@ -292,7 +292,7 @@ def move_one(i, t, x, y, vx, vy, vz, eint, ip, spc, sfac, segs, seg_tally, box, 
         w0x, w0y, w0z = ux, uy, vz[i]
         s, dif, nvx, nvy, nvz = reflect(s, w0x, w0y, w0z, nx, ny, sf * pieces[j, P_SIGMA],
                                         pieces[j, P_ACC], pieces[j, P_VEL], tx, ty)
-        s, e0, e1 = wall_internal(s, eint, i, dif, sf * pieces[j, P_SIGMA], ip)
+        s, e0, e1 = wall_internal(s, eint, i, dif, sf * pieces[j, P_SIGMA], ip[sp])
         if sampling and piece_int[j, 3] > 0:
             frac = (coord - pieces[j, P_START]) / (pieces[j, P_END] - pieces[j, P_START])
             f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac) * nsp + sp

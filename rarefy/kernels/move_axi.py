@@ -123,8 +123,8 @@ def move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, spc, sfac, segs, seg_tally, b
                  piece_int, planes, stally, ftally, sampling, nudge, w, rng_key):
     """Move particle ``i`` for time ``t`` (s); False if it left the domain. Surface
     interactions draw from the particle's stream under ``rng_key`` and accommodate the
-    internal energies ``eint`` (parameters ``ip``; ``rarefy.kernels.internal``). Species
-    as in ``rarefy.kernels.move.move_one``."""
+    internal energies ``eint`` (species k's parameters ``ip[k]``;
+    ``rarefy.kernels.internal``). Species as in ``rarefy.kernels.move.move_one``."""
     s = stream(rng_key, i)
     nsp = sfac.shape[0]
     sp = int(spc[i]) if nsp > 1 else 0
@@ -190,7 +190,7 @@ def move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, spc, sfac, segs, seg_tally, b
                 nr = -nr
             s, dif, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, sf * segs[k_hit, W_SIGMA],
                                             segs[k_hit, W_ACC], segs[k_hit, W_VEL], tx, tr_)
-            s, e0, e1 = wall_internal(s, eint, i, dif, sf * segs[k_hit, W_SIGMA], ip)
+            s, e0, e1 = wall_internal(s, eint, i, dif, sf * segs[k_hit, W_SIGMA], ip[sp])
             if sampling and seg_tally[k_hit, 1] > 0:
                 f = _facet_of(seg_tally[k_hit, 0], seg_tally[k_hit, 1], s_hit) * nsp + sp
                 _tally_surface(stally, f, ux, wr, wt, nvx, nvr, nvt, nx, nr, tx, tr_, e0, e1,
@@ -222,7 +222,7 @@ def move_one_axi(i, t, x, r, vx, vr, vt, eint, ip, spc, sfac, segs, seg_tally, b
         nx, nr, tx, tr_ = side_frame(side)   # the axis (ymin) is never met
         s, dif, nvx, nvr, nvt = reflect(s, ux, wr, wt, nx, nr, sf * pieces[j, P_SIGMA],
                                         pieces[j, P_ACC], pieces[j, P_VEL], tx, tr_)
-        s, e0, e1 = wall_internal(s, eint, i, dif, sf * pieces[j, P_SIGMA], ip)
+        s, e0, e1 = wall_internal(s, eint, i, dif, sf * pieces[j, P_SIGMA], ip[sp])
         if sampling and piece_int[j, 3] > 0:
             frac = (coord - pieces[j, P_START]) / (pieces[j, P_END] - pieces[j, P_START])
             f = _facet_of(piece_int[j, 2], piece_int[j, 3], frac) * nsp + sp

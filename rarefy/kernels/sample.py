@@ -80,9 +80,11 @@ def add_cell_moments(lo, hi, vx, vy, vz, eint, acc, c, weight):
 
 
 @njit(**JIT)
-def add_cell_moments_mixed(lo, hi, vx, vy, vz, spc, acc, c, weight):
-    """:func:`add_cell_moments` of a mixture of monatomic species: particle i's moments go
-    to the columns of its species, spc[i] * N_MOMENTS + M_*."""
+def add_cell_moments_mixed(lo, hi, vx, vy, vz, eint, spc, acc, c, weight):
+    """:func:`add_cell_moments` of a mixture: particle i's moments go to the columns of
+    its species, spc[i] * N_MOMENTS + M_* (internal energies per unit mass of the
+    species)."""
+    ne = eint.shape[0]
     for i in range(lo, hi):
         o = int(spc[i]) * N_MOMENTS
         u = vx[i]
@@ -102,6 +104,14 @@ def add_cell_moments_mixed(lo, hi, vx, vy, vz, spc, acc, c, weight):
         acc[c, o + M_C2VX] += weight * c2 * u
         acc[c, o + M_C2VY] += weight * c2 * v
         acc[c, o + M_C2] += weight * c2
+        if ne > 0:
+            e = eint[0, i]
+            acc[c, o + M_EROT] += weight * e
+            if ne > 1:
+                acc[c, o + M_EVIB] += weight * eint[1, i]
+                e += eint[1, i]
+            acc[c, o + M_EVX] += weight * e * u
+            acc[c, o + M_EVY] += weight * e * v
 
 
 @njit(**JIT)

@@ -23,7 +23,7 @@ from rarefy.kernels.config import (
 )
 
 __all__ = ["FIELD_UNITS", "INTERNAL_FIELDS", "fields_from_moments", "internal_temperatures",
-           "cell_fields", "field_unit"]
+           "cell_fields", "field_unit", "species_internal"]
 
 FIELD_UNITS = {
     "number_density": "m^-3",
@@ -121,10 +121,21 @@ def internal_temperatures(e_rot, e_vib, t_tr, mass_kg: float, rot_dof: int,
     return out
 
 
+def species_internal(plan) -> tuple[tuple[int, ...], tuple[float, ...]]:
+    """(rotational dof, theta_vib in K or 0) per species of a plan (a ``Plan`` or the
+    dict a result file holds; results written before mixtures of molecules give the
+    single values)."""
+    get = plan.get if isinstance(plan, dict) else lambda k, d=None: getattr(plan, k, d)
+    dofs = get("species_rot_dof", ()) or (get("rot_dof", 0),)
+    thetas = get("species_theta_vib_k", ()) or (get("theta_vib_k", 0.0),)
+    return tuple(int(d) for d in dofs), tuple(float(t) for t in thetas)
+
+
 def cell_fields(sums: np.ndarray, nsteps: int, volume: np.ndarray, masses: np.ndarray,
-                fnum, rot_dof: int = 0, theta_vib_k: float = 0.0,
+                fnum, rot_dof=(0,), theta_vib_k=(0.0,),
                 names: tuple[str, ...] = ()) -> dict[str, np.ndarray]:
-    """Fields per cell of a pure gas (:func:`fields_from_moments`) or of a mixture.
+    """Fields per cell of a pure gas (:func:`fields_from_moments`) or of a mixture;
+    ``rot_dof`` and ``theta_vib_k`` per species (:func:`species_internal`).
 
     A mixture's sums hold species k in columns k * N_MOMENTS + M_*. Its fields are those of
     the whole gas: the moments weighted by m_k / m_mean (m_mean the cell's number-weighted
@@ -133,12 +144,16 @@ def cell_fields(sums: np.ndarray, nsteps: int, volume: np.ndarray, masses: np.nd
     n k T, shear stress and heat flux of the mixture (Bird 1994 sec. 1.5, from memory).
     Each species adds ``number_density_<name>``, ``mole_fraction_<name>`` and its
     ``velocity_x_<name>``, ``velocity_y_<name>`` (diffusion shows as their difference
-    from the mixture's).
+    from the mixture's). Where molecules take part, each adds
+    ``temperature_rotational_<name>`` (and ``temperature_vibrational_<name>``), and the
+    mixture gets ``temperature_rotational`` (the rotational energy of all its molecules
+    over their rotational dof) and ``temperature_overall`` (every degree of freedom of
+    every molecule weighted alike, as for a pure gas).
     """
     nsp = len(masses)
     if nsp == 1:
-        return fields_from_moments(sums, nsteps, volume, float(masses[0]), fnum, rot_dof,
-                                   theta_vib_k)
+        return fields_from_moments(sums, nsteps, volume, float(masses[0]), fnum, rot_dof[0],
+                                   theta_vib_k[0])
     blocks = [sums[:, k * N_MOMENTS:(k + 1) * N_MOMENTS] for k in range(nsp)]
     counts = np.array([b[:, M_N] for b in blocks])
     total = counts.sum(axis=0)
@@ -147,13 +162,38 @@ def cell_fields(sums: np.ndarray, nsteps: int, volume: np.ndarray, masses: np.nd
                           / np.where(total > 0, total, 1.0), masses.mean())
         weighted = sum(b * (m / m_mean)[:, None] for b, m in zip(blocks, masses))
         out = fields_from_moments(weighted, nsteps, volume, m_mean, fnum)
-        for name, b in zip(names, blocks):
-            part = fields_from_moments(b, nsteps, volume, float(masses[names.index(name)]),
-                                       fnum)
+        heat = 3.0 * total * out["temperature"]   # sums of dof * T over the molecules
+        dof = 3.0 * total
+        rot_heat = np.zeros_like(heat)
+        rot_dof_sum = np.zeros_like(heat)
+        for k, (name, b) in enumerate(zip(names, blocks)):
+            part = fields_from_moments(b, nsteps, volume, float(masses[k]), fnum,
+                                       rot_dof[k], theta_vib_k[k])
             out[f"number_density_{name}"] = part["number_density"]
             out[f"mole_fraction_{name}"] = np.where(total > 0, b[:, M_N] / total, np.nan)
             out[f"velocity_x_{name}"] = part["velocity_x"]
             out[f"velocity_y_{name}"] = part["velocity_y"]
+            if not rot_dof[k]:
+                continue
+            n_k = b[:, M_N]
+            t_rot = part["temperature_rotational"]
+            out[f"temperature_rotational_{name}"] = t_rot
+            have = n_k > 0
+            rot_heat += np.where(have, n_k * rot_dof[k] * t_rot, 0.0)
+            rot_dof_sum += n_k * rot_dof[k]
+            if theta_vib_k[k] > 0.0:
+                t_vib = part["temperature_vibrational"]
+                out[f"temperature_vibrational_{name}"] = t_vib
+                ev = masses[k] * b[:, M_EVIB] * np.where(have, 1.0 / np.where(have, n_k, 1), 0)
+                zeta_v = np.where(t_vib > 0.0, 2.0 * ev / (K_B * np.where(t_vib > 0, t_vib,
+                                                                           1.0)), 0.0)
+                heat += np.where(have, n_k * zeta_v * t_vib, 0.0)
+                dof += n_k * zeta_v
+        if rot_dof_sum.any():
+            out["temperature_rotational"] = np.where(rot_dof_sum > 0,
+                                                     rot_heat / rot_dof_sum, np.nan)
+            out["temperature_overall"] = np.where(total > 0, (heat + rot_heat)
+                                                  / (dof + rot_dof_sum), np.nan)
     return out
 
 
@@ -162,7 +202,7 @@ def field_unit(name: str) -> str:
     if name in FIELD_UNITS:
         return FIELD_UNITS[name]
     for prefix, unit in (("number_density_", "m^-3"), ("mole_fraction_", "1"),
-                         ("velocity_", "m/s")):
+                         ("velocity_", "m/s"), ("temperature_", "K")):
         if name.startswith(prefix):
             return unit
     raise KeyError(name)

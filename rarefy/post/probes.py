@@ -37,7 +37,7 @@ from rarefy.kernels.config import (
     PM_VZZ, PM_W,
 )
 from rarefy.theory.maxwell import drifting_speed_pdf
-from rarefy.post.fields import internal_temperatures
+from rarefy.post.fields import internal_temperatures, species_internal
 from rarefy.post.fit import BinnedFit, drifting_speed_cdf, fit_binned
 from rarefy.post.speed_distribution import SpeedDistribution
 
@@ -196,7 +196,9 @@ def probe_results(r: ResultData, case=None) -> dict:
                "region_m": [float(v) for v in r.probe_box[q]], "direction": direction}
         mom = r.probe_mom[:, q]
         tot = mom.sum(axis=0, keepdims=True)
-        inner = (r.plan.get("rot_dof", 0), r.plan.get("theta_vib_k", 0.0))
+        dofs, thetas = species_internal(r.plan)
+        k = max(r.probe_species[q], 0)
+        inner = (dofs[k], thetas[k]) if k < len(dofs) else (0, 0.0)
         whole = probe_batch_values(tot, mass, r.probe_volume[q], fnum,
                                    r.steps_per_batch * r.batches, direction, *inner)
         # jackknife over the batches: ratios of sums stay stable where a batch holds few

@@ -144,7 +144,7 @@ def test_collisions_conserve_total_energy_with_internal_modes():
     st = np.zeros(3)
     collide_cells(1, 1, np.array([0, n], dtype=np.int64), rng.random(n), rng.random(n),
                   vx, vy, vz, np.array([1.0]), sigcr, np.zeros(1), np.array([fnum]), dt,
-                  a_coef, exponent, model.alpha, eint, ip, np.zeros(1), np.ones(1),
+                  a_coef, exponent, model.alpha, eint, ip[None, :], np.zeros(1), np.ones(1),
                   np.zeros((1, 1)), np.zeros((1, 1)), np.ones((1, 1)), KEY,
                   np.zeros((1, N_MOMENTS)),
                   False, st)
@@ -173,7 +173,7 @@ def test_millikan_white_in_the_kernel_matches_the_plan():
         plan = make_plan(case)
         sp = get_species(gas)
         model = sp.model(case.gas.model)
-        ip = kernel_parameters(plan, model, sp, case.gas.vibration_number)
+        ip = kernel_parameters(plan, (model,), case.gas.vibration_number)[0]
         for t in (800.0, 2000.0, 6000.0):
             z = vib_collision_number(case.gas, model, t, sp.theta_vib_k)
             _, pvib = cell_probabilities(ip, t)

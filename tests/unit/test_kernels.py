@@ -38,7 +38,7 @@ P_MIN = 1e-3        # KS acceptance for a correct distribution (fixed seed)
 P_WRONG = 1e-6      # KS p-value a wrong distribution must fall below
 AR = get_species("Ar")
 NOINT = np.zeros((0, 1))            # no internal-energy rows (monatomic)
-IP0 = np.zeros(N_INTERNAL_PAR)      # internal-energy parameters of a monatomic gas
+IP0 = np.zeros((1, N_INTERNAL_PAR))    # internal-energy parameters of a monatomic gas
 ONE = (np.zeros(1), np.ones(1))     # one species: species row (unread), sigma factors
 PAIR1 = (np.zeros(1), np.ones(1), np.zeros((1, 1)), np.zeros((1, 1)), np.ones((1, 1)))
 

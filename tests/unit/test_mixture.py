@@ -8,12 +8,13 @@ import pytest
 
 from rarefy.case import CaseError, parse_case
 from rarefy.constants import K_B
-from rarefy.gas import kinetic
+from rarefy.gas import internal, kinetic
 from rarefy.gas.mixture import Mixture, chapman_enskog_hs_viscosity, mixture_of
 from rarefy.gas.species import get_species
 from rarefy.kernels.collide import collide_cells
 from rarefy.kernels.config import N_INTERNAL_PAR, N_MOMENTS
 from rarefy.kernels.rng import step_key
+from rarefy.plan import format_plan, make_plan
 
 BOX = """
 [gas]
@@ -60,11 +61,49 @@ def test_mixture_keys():
     assert _case('species = "Ar"').gas.names == ("Ar",)
 
 
+def test_mixtures_with_molecules():
+    # a molecule in a mixture takes the pure gas's keys: one value for every molecule or
+    # a table by species (left-out molecules take the default Z_rot)
+    g = _case('species = ["He", "N2", "CO2"]\nmole_fractions = [0.2, 0.5, 0.3]').gas
+    assert g.rotation == (None, 5.0, 5.0) and [g.rotation_of(k) for k in range(3)] == \
+        [None, 5.0, 5.0]
+    g = _case('species = ["He", "N2", "CO2"]\nmole_fractions = [0.2, 0.5, 0.3]\n'
+              'rotation = {n2 = "parker"}').gas
+    assert g.rotation == (None, "parker", 5.0)
+    g = _case('species = ["N2", "O2"]\nmole_fractions = [0.79, 0.21]\nrotation = "parker"\n'
+              'vibration = true\nvibration_number = 50').gas
+    assert g.rotation == ("parker", "parker") and g.vibration and g.vibration_number == 50.0
+    # the plan: per-species entries, and gamma of the mixture from heat capacities that
+    # add by mole fraction (textbook thermodynamics): He-N2 50/50 has
+    # c_v = (0.5 * 3/2 + 0.5 * 5/2) k = 2 k, gamma = 3/2 (S)
+    plan = make_plan(_case('species = ["He", "N2"]\nmole_fractions = [0.5, 0.5]'))
+    assert plan.species_rot_dof == (0, 2) and plan.rot_dof == 2
+    assert plan.species_rot_collision_number == (0.0, 5.0)
+    assert plan.gamma == pytest.approx(1.5, rel=1e-12)
+    assert "N2: rotation 2 dof, Z_rot 5" in format_plan(plan)
+    assert "He:" not in format_plan(plan)
+    air = make_plan(_case('species = ["N2", "O2"]\nmole_fractions = [0.79, 0.21]\n'
+                          'rotation = "parker"'))
+    assert air.gamma == pytest.approx(1.4, rel=1e-12)
+    assert air.species_rotation == ("parker", "parker")
+    # Parker's Z_rot at the plan's reference temperature, per species
+    assert air.species_rot_collision_number[1] == pytest.approx(
+        float(internal.parker_zrot(air.reference_temperature_k, *get_species("O2").parker)))
+
+
 def test_mixture_errors():
     _error('species = ["He", "He"]\nmole_fractions = [0.5, 0.5]', "gas.species[1]",
            "listed twice")
-    _error('species = ["He", "N2"]\nmole_fractions = [0.5, 0.5]', "gas.species[1]",
-           "molecule", "monatomic gases only")
+    _error('species = ["He", "CO2"]\nmole_fractions = [0.5, 0.5]\nrotation = "parker"',
+           "gas.rotation", "CO2 lacks", "table by species")
+    _error('species = ["He", "N2"]\nmole_fractions = [0.5, 0.5]\nrotation = {He = 3}',
+           "gas.rotation.He", "no molecule of the mixture", "allowed: N2")
+    _error('species = ["N2", "CO2"]\nmole_fractions = [0.5, 0.5]\nvibration = true',
+           "gas.vibration", "no vibrational data for CO2")
+    _error('species = ["He", "N2"]\nmole_fractions = [0.5, 0.5]\nrotation = 0.5',
+           "gas.rotation", "from 1 to 1e12")
+    _error('species = ["He", "N2"]\nmole_fractions = [0.5, 0.5]\nvibration_number = 3',
+           "gas.vibration_number", "only with vibration = true")
     _error('species = ["He", "Unobtainium"]\nmole_fractions = [0.5, 0.5]',
            "gas.species[1]", "unknown species")
     _error('species = ["He"]\nmole_fractions = [1.0]', "gas.species", "2 to 8 species")
@@ -159,7 +198,7 @@ def test_unlike_collisions_conserve_momentum_and_energy():
     stats = np.zeros(3 + 4)
     collide_cells(1, 1, np.array([0, n], dtype=np.int64), rng.random(n), rng.random(n),
                   vx, vy, vz, np.array([1.0]), sigcr, np.zeros(1), np.array([fnum]), dt,
-                  0.0, 1.0, 1.0, np.zeros((0, n)), np.zeros(N_INTERNAL_PAR), spc,
+                  0.0, 1.0, 1.0, np.zeros((0, n)), np.zeros((2, N_INTERNAL_PAR)), spc,
                   masses / masses.mean(), a, e, al, step_key(3, 0, 1),
                   np.zeros((1, 2 * N_MOMENTS)), False, stats)
     p1 = np.array([(m * v).sum() for v in (vx, vy, vz)])
@@ -169,6 +208,58 @@ def test_unlike_collisions_conserve_momentum_and_energy():
     assert np.abs(p1 - p0).max() < 1e-12 * np.abs(m * sig).sum()
     assert abs(e1 - e0) < 1e-12 * e0
 
+
+
+def test_molecules_in_a_mixture_exchange_internal_energy_conserving_it():
+    # exact: Larsen-Borgnakke in unlike pairs moves energy between the pair's relative
+    # motion (E_t = m_r c_r^2 / 2) and the internal modes of its molecules, conserving
+    # momentum and total energy (Bird 1994 ch. 5, M); helium has no internal modes and
+    # keeps zeros; N2 and O2 keep whole vibrational quanta of their own theta
+    from rarefy.case import parse_case as parse
+    from rarefy.engine.internal_params import kernel_parameters
+
+    rng = np.random.default_rng(5)
+    case = parse(BOX.format(gas='species = ["He", "N2", "O2"]\n'
+                                'mole_fractions = [0.4, 0.3, 0.3]\nrotation = 3\n'
+                                'vibration = true\nvibration_number = 5', extra=""), "m.toml")
+    plan = make_plan(case)
+    mix = mixture_of(case.gas)
+    ip = kernel_parameters(plan, mix.models, case.gas.vibration_number)
+    a, e, al = mix.sigma_cr_coefficients()
+    masses = mix.masses
+    n = 300
+    spc = rng.choice(3, n, p=[0.4, 0.3, 0.3]).astype(np.float64)
+    k = spc.astype(int)
+    m = masses[k]
+    sig = np.sqrt(K_B * 3000.0 / m)
+    vx, vy, vz = (sig * rng.standard_normal(n) + u for u in (50.0, -20.0, 10.0))
+    th = K_B * np.array([0.0, get_species("N2").theta_vib_k,
+                         get_species("O2").theta_vib_k]) / masses
+    eint = np.vstack([rng.gamma(1.0, sig * sig), np.floor(rng.exponential(1.0, n)) * th[k]])
+    eint[:, k == 0] = 0.0
+    p0 = np.array([(m * v).sum() for v in (vx, vy, vz)])
+    e0 = math.fsum(0.5 * m * (vx * vx + vy * vy + vz * vz)) + math.fsum((m * eint).ravel())
+    r0 = eint.copy()
+    sigcr = np.array([float(a.max()) * 8000.0 ** float(e.max())])
+    dt = 1e-6
+    fnum = 30000.0 / (0.5 * n * (n - 1) * sigcr[0] * dt)
+    stats = np.zeros(3 + 9)
+    collide_cells(1, 1, np.array([0, n], dtype=np.int64), rng.random(n), rng.random(n),
+                  vx, vy, vz, np.array([1.0]), sigcr, np.zeros(1), np.array([fnum]), dt,
+                  0.0, 1.0, 1.0, eint, ip, spc, masses / plan.mass_kg, a, e, al,
+                  step_key(3, 0, 1), np.zeros((1, 3 * N_MOMENTS)), False, stats)
+    p1 = np.array([(m * v).sum() for v in (vx, vy, vz)])
+    e1 = math.fsum(0.5 * m * (vx * vx + vy * vy + vz * vz)) + math.fsum((m * eint).ravel())
+    assert stats[0] > 2000
+    assert np.abs(p1 - p0).max() < 1e-12 * np.abs(m * sig).sum()
+    assert abs(e1 - e0) < 1e-12 * e0
+    assert np.all(eint[:, k == 0] == 0.0)
+    mol = k > 0
+    assert np.count_nonzero(eint[0, mol] != r0[0, mol]) > 0.9 * mol.sum()
+    assert np.count_nonzero(eint[1, mol] != r0[1, mol]) > 0.5 * mol.sum()
+    assert np.all(eint >= 0.0)
+    q = eint[1, mol] / th[k[mol]]
+    assert np.allclose(q, np.rint(q), atol=1e-9)
 
 def test_mixture_result_file_opens_with_species(tmp_path):
     # the result keeps every tally per species; xarray opens them on named dimensions

@@ -193,7 +193,7 @@ def test_rotate_to_keeps_speed_and_angular_momentum():
 NUDGE = 1e-12
 KEY = step_key(2024, 0, 2)   # a fixed key for the per-particle streams
 NOINT = np.zeros((0, 1))     # no internal-energy rows (monatomic)
-IP0 = np.zeros(N_INTERNAL_PAR)
+IP0 = np.zeros((1, N_INTERNAL_PAR))
 ONE = (np.zeros(1), np.ones(1))     # one species: species row (unread), sigma factors
 
 

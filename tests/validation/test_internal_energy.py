@@ -124,7 +124,7 @@ def test_without_the_selection_correction_the_rate_is_wrong():
     z = 5.0
     text = box_text("N2", f"rotation = {z}")
     sim = box_sim(text, 100_000, 1)
-    sim.ip[IP_ROT_P] = 1.0 / z
+    sim.ip[0, IP_ROT_P] = 1.0 / z
     sim.store.state[EROT, :sim.store.n] = 0.0
     rows, ncoll = [], 0.0
     for _ in range(200):
