@@ -9,7 +9,7 @@ one and two threads, and so must the collision counts and pair separations.
 
 The cases are sized so that every kernel really splits its work: over 131 072
 particles (two sort chunks) and many move chunks, with walls, flux planes, probes and
-collisions (an axisymmetric orifice at delta ~ 3, the same with a He-Xe mixture, and a
+collisions (an axisymmetric orifice at delta ~ 3, the same with a He-Xe-N2 mixture, and a
 planar slit of N2 with rotational exchange).
 """
 
@@ -60,10 +60,12 @@ CASES = {
                 + FILL.format(p=20.0), 0.5e6),
     "slit": (slit_case(gas="N2", upstream_pressure_pa=20.0, width_m=1e-3)
              + FILL.format(p=8.0), 0.5e6),
-    # a mixture: species rows, pair cross-sections, per-species tallies
+    # a mixture: species rows, pair cross-sections, per-species tallies, and a molecule
+    # exchanging rotation with per-cell (Parker) collision numbers
     "orifice mixture": (orifice_case(gas="Ar", upstream_pressure_pa=50.0, radius_m=0.5e-3)
                         .replace('species = "Ar"',
-                                 'species = ["He", "Xe"]\nmole_fractions = [0.8, 0.2]')
+                                 'species = ["He", "Xe", "N2"]\n'
+                                 'mole_fractions = [0.6, 0.2, 0.2]\nrotation = "parker"')
                         + FILL.format(p=20.0), 0.5e6),
 }
 
