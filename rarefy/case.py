@@ -94,6 +94,7 @@ class GasSpec:
     vibration: bool = False
     vibration_number: float | str | None = None
     rotation_set: bool = False      # rotation given in the case (else the default)
+    rotation_given: tuple[bool, ...] = ()   # mixtures: per species, its Z_rot from the case
     mixture: tuple[str, ...] = ()   # every species of a mixture (empty: one species)
     mole_fractions: tuple[float, ...] = ()   # default composition of a mixture
 
@@ -101,6 +102,10 @@ class GasSpec:
     def names(self) -> tuple[str, ...]:
         """The species simulated, in the order of their index (one for a pure gas)."""
         return self.mixture or (self.species,)
+
+    def rotation_from_case(self, k: int) -> bool:
+        """True when species k's Z_rot comes from the case, not the default."""
+        return self.rotation_given[k] if self.rotation_given else self.rotation_set
 
     def rotation_of(self, k: int) -> float | str | None:
         """Z_rot setting of species k: a number, ``"parker"``, or None (monatomic)."""

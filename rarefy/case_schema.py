@@ -272,7 +272,8 @@ def _mixture(chk: Checker, gas: dict, names: list, canon: dict) -> GasSpec:
                                "gas.mole_fractions", len(species))
     if not molecules:
         return GasSpec(species[0], model, mixture=tuple(species), mole_fractions=fractions)
-    rotation = _mixture_rotation(chk, gas.get("rotation", DEFAULT_ZROT), species)
+    rotation, given = _mixture_rotation(chk, gas.get("rotation", DEFAULT_ZROT), species,
+                                        "rotation" in gas)
     vibration = chk.boolean(gas.get("vibration", False), "gas.vibration")
     for s in molecules:
         if vibration and SPECIES[s].theta_vib_k is None:
@@ -285,13 +286,15 @@ def _mixture(chk: Checker, gas: dict, names: list, canon: dict) -> GasSpec:
         number = _collision_number(chk, gas.get("vibration_number", "millikan-white"),
                                    "gas.vibration_number", "millikan-white", True,
                                    ", ".join(molecules))
-    return GasSpec(species[0], model, rotation, vibration, number, "rotation" in gas,
+    return GasSpec(species[0], model, rotation, vibration, number, "rotation" in gas, given,
                    mixture=tuple(species), mole_fractions=fractions)
 
 
-def _mixture_rotation(chk: Checker, value: Any, species: list) -> tuple:
-    """Z_rot of every species of a mixture (None for monatomic ones): one value for every
-    molecule, or a table by species name (molecules left out take the default)."""
+def _mixture_rotation(chk: Checker, value: Any, species: list,
+                      given: bool) -> tuple[tuple, tuple]:
+    """(Z_rot of every species of a mixture, None for monatomic ones; whether each came
+    from the case): one value for every molecule, or a table by species name (molecules
+    left out take the default)."""
     from rarefy.gas.species import SPECIES
 
     molecules = [s for s in species if SPECIES[s].rot_dof]
@@ -303,10 +306,15 @@ def _mixture_rotation(chk: Checker, value: Any, species: list) -> tuple:
             if s is None:
                 chk.fail(f"gas.rotation.{name}", "names no molecule of the mixture; allowed: "
                                                  f"{', '.join(molecules)}")
+            if s in table:
+                chk.fail(f"gas.rotation.{name}", f"{s} is given twice")
             table[s] = _collision_number(chk, v, f"gas.rotation.{name}", "parker",
                                          SPECIES[s].parker is not None, s)
-        return tuple(table.get(s, DEFAULT_ZROT) if SPECIES[s].rot_dof else None
-                     for s in species)
+        return (tuple(table.get(s, DEFAULT_ZROT) if SPECIES[s].rot_dof else None
+                      for s in species), tuple(s in table for s in species))
+    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+        chk.fail("gas.rotation", 'must be a number from 1 to 1e12, "parker", or a table by '
+                                 f'species, e.g. {{{molecules[0]} = "parker"}}; got {show(value)}')
     if isinstance(value, str) and value.strip().lower() == "parker":
         lacking = [s for s in molecules if SPECIES[s].parker is None]
         if lacking:
@@ -315,7 +323,8 @@ def _mixture_rotation(chk: Checker, value: Any, species: list) -> tuple:
                                      'table by species, e.g. {N2 = "parker", '
                                      f"{lacking[0]} = 5}}")
     z = _collision_number(chk, value, "gas.rotation", "parker", True, molecules[0])
-    return tuple(z if SPECIES[s].rot_dof else None for s in species)
+    return (tuple(z if SPECIES[s].rot_dof else None for s in species),
+            tuple(given and bool(SPECIES[s].rot_dof) for s in species))
 
 
 def mole_fractions(chk: Checker, value: Any, key: str, count: int) -> tuple[float, ...]:

@@ -93,6 +93,7 @@ class Plan:
     # a mixture's fields above hold only rot_dof = the largest, vibration and gamma)
     species_rot_dof: tuple = ()
     species_rotation: tuple = ()                   # "constant", "parker" or "" (monatomic)
+    species_rotation_source: tuple = ()            # "case", "auto" or "" (monatomic)
     species_rot_collision_number: tuple = ()
     species_rot_selection_probability: tuple = ()  # against like molecules
     species_rot_floor_temperature_k: tuple = ()
@@ -137,7 +138,9 @@ class Plan:
                            "Larsen-Borgnakke exchange can reach (one molecule of a pair per "
                            "collision): colder gas relaxes its rotation more slowly than "
                            "Parker's formula says")
-            if name == "H2" and self.chosen.get("rotation") == "auto":
+            source = (self.species_rotation_source[k] if self.species_rotation_source
+                      else self.chosen.get("rotation"))
+            if name == "H2" and source == "auto":
                 out.append("H2 relaxes its rotation in hundreds of collisions near room "
                            "temperature, not the default Z_rot = "
                            f"{self.species_rot_collision_number[k]:g}; set gas.rotation")
@@ -418,13 +421,14 @@ def _internal(case: Case, t_ref: float, chosen: dict) -> dict:
                gamma=internal.gamma_of_mixture(mix.fractions, per["rot_dof"], t_ref,
                                                per["theta_vib_k"] if vibration else None))
     if mix.nspecies == 1:
-        out.update({key: v[0] for key, v in per.items() if key != "rot_dof"})
+        out.update({key: v[0] for key, v in per.items()
+                    if key not in ("rot_dof", "rotation_source")})
     return out
 
 
 def _species_internal(g, k: int, sp, model, t_ref: float) -> dict:
     """Internal-energy entries of species k (zeros for a monatomic one)."""
-    out = dict(rot_dof=sp.rot_dof, rotation="", rot_collision_number=0.0,
+    out = dict(rot_dof=sp.rot_dof, rotation="", rotation_source="", rot_collision_number=0.0,
                rot_selection_probability=0.0, rot_floor_temperature_k=0.0,
                theta_vib_k=0.0, vib_collision_number=0.0)
     if not sp.rot_dof:
@@ -437,6 +441,7 @@ def _species_internal(g, k: int, sp, model, t_ref: float) -> dict:
     else:
         z = float(setting)
     out.update(rotation="parker" if setting == "parker" else "constant",
+               rotation_source="case" if g.rotation_from_case(k) else "auto",
                rot_collision_number=z,
                rot_selection_probability=internal.selection_probability(z, sp.rot_dof,
                                                                          model.omega))
@@ -499,7 +504,7 @@ def format_plan(plan: Plan) -> str:
 
 
 _INTERNAL_KEYS = ("rot_dof", "rotation", "rot_collision_number", "theta_vib_k",
-                  "vib_collision_number")
+                  "vib_collision_number", "rotation_source")
 
 
 def internal_line(plan: Plan) -> str:
@@ -511,8 +516,9 @@ def internal_line(plan: Plan) -> str:
         rows = [dict(zip(_INTERNAL_KEYS, v)) for v in zip(
             *(getattr(plan, f"species_{key}") for key in _INTERNAL_KEYS))]
     else:   # a plan stored by a version without per-species entries
-        rows = [{key: getattr(plan, key) for key in _INTERNAL_KEYS}]
+        rows = [{key: getattr(plan, key) for key in _INTERNAL_KEYS[:-1]}]
         rows[0]["theta_vib_k"] *= plan.vibration
+        rows[0]["rotation_source"] = plan.chosen.get("rotation", "case")
     parts = [(f"{plan.species[k]}: " if len(rows) > 1 else "")
              + _species_internal_text(plan, row)
              for k, row in enumerate(rows) if row["rot_dof"]]
@@ -521,7 +527,7 @@ def internal_line(plan: Plan) -> str:
 
 def _species_internal_text(plan: Plan, row: dict) -> str:
     parker = row["rotation"] == "parker"
-    how = "Parker's formula" if parker else plan.chosen.get("rotation", "case")
+    how = "Parker's formula" if parker else row["rotation_source"]
     at = f" at {plan.reference_temperature_k:.4g} K" if parker else ""
     text = (f"rotation {row['rot_dof']} dof, Z_rot {row['rot_collision_number']:.3g}{at} "
             f"({how}); vibration ")

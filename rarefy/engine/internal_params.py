@@ -45,7 +45,7 @@ def _species_row(row: np.ndarray, plan: Plan, k: int, model: MolecularModel,
                  vibration_number) -> None:
     row[IP_M_OVER_K] = model.mass_kg / K_B
     row[IP_OMEGA] = model.omega
-    dof = plan.species_rot_dof[k] if plan.species_rot_dof else plan.rot_dof
+    dof = plan.species_rot_dof[k]
     if not dof:
         return
     z = plan.species_rot_collision_number[k]

@@ -218,6 +218,8 @@ class Simulation:
         if not self.n_internal:
             return []
         p = self.plan
+        if species is None and self.nsp > 1:
+            raise ValueError("a mixture's internal energies need each molecule's species")
         if species is None:
             kt_m = K_B * t_k / self.mass
             rows = [rng.gamma(0.5 * p.rot_dof, kt_m, count)]

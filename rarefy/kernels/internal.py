@@ -19,6 +19,11 @@ quantized Larsen-Borgnakke, Bird 1994 ch. 5; Bergemann & Boyd 1994): the level i
 drawn uniformly from 0..floor(E_c / k theta) and accepted with probability
 (1 - i k theta / E_c)^(3/2 - omega); the equilibrium level is geometric,
 floor(-ln(R) T / theta).
+
+Mixtures (:func:`exchange_mixed`): each species has its own row of ``ip``; a pair
+exchanges its relative translational energy m_r c_r^2 / 2 (per unit reference mass, the
+molecules' energies scaled by their mass ratios) with each molecule's own dof and
+collision number and the pair's omega; monatomic species carry zero rows.
 """
 
 import numpy as np

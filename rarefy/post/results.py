@@ -24,7 +24,7 @@ from rarefy.kernels.config import (
     F_C2_POS, F_C_POS, F_N_NEG, F_N_POS, T_C2_IN, T_C2_OUT, T_EI_IN, T_EI_OUT, T_HITS, T_VN_IN, T_VN_OUT, T_VT_IN,
     T_VT_OUT,
 )
-from rarefy.gas import kinetic
+from rarefy.gas import internal, kinetic
 from rarefy.theory import channel_transmission, continuum, effusion, tube_transmission
 
 __all__ = ["flux_plane_results", "surface_results", "diagnostics",
@@ -111,8 +111,14 @@ def flux_plane_results(r: ResultData, case: Case) -> dict:
     masses = r.species_mass
     mixture = len(r.species) > 1
     # the plan's gamma counts rotation and, when switched on, vibration at the reference
-    # temperature (rarefy.gas.internal.gamma_of_gas)
+    # temperature (rarefy.gas.internal.gamma_of_gas); a mixture's at the upstream
+    # reservoir's composition (gamma_of_mixture)
     gamma = r.plan.get("gamma", (5.0 + sp.rot_dof) / (3.0 + sp.rot_dof))
+    if mixture and r.plan.get("species_rot_dof"):
+        thetas = r.plan.get("species_theta_vib_k")
+        gamma = internal.gamma_of_mixture(x_up, r.plan["species_rot_dof"],
+                                          r.plan["reference_temperature_k"],
+                                          thetas if any(thetas) else None)
     out = {}
     for k, name in enumerate(r.plane_names):
         spk = r.plane_species[k]

@@ -187,6 +187,42 @@ def test_millikan_white_in_the_kernel_matches_the_plan():
         math.exp(a * (2000.0 ** (-1 / 3) - 0.015 * 14.0 ** 0.25) - 18.42), rel=2e-3)
 
 
+def test_mixture_collision_numbers_in_the_kernel_match_the_plan():
+    # each molecule of a mixture keeps its own Z_rot (Parker 1959 or a constant) and
+    # Z_vib (Millikan & White 1963, M); the kernel's per-cell inverse numbers must be
+    # those of rarefy.gas.internal and the plan at the same temperature, and zero for
+    # helium, which has no internal modes
+    from rarefy.case import parse_case
+    from rarefy.engine.internal_params import kernel_parameters
+    from rarefy.gas.mixture import mixture_of
+    from rarefy.kernels.internal import inverse_numbers
+    from rarefy.plan import format_plan, make_plan, vib_collision_number
+    from rarefy.templates import box_case
+
+    text = box_case(gas="N2", temperature_k=2000.0, pressure_pa=100.0).replace(
+        'species = "N2"', 'species = ["He", "N2", "O2"]\nmole_fractions = [0.2, 0.4, 0.4]\n'
+        'rotation = {N2 = "parker", O2 = 7}\nvibration = true')
+    case = parse_case(text, "box.toml")
+    plan = make_plan(case)
+    mix = mixture_of(case.gas)
+    ip = kernel_parameters(plan, mix.models, case.gas.vibration_number)
+    assert "O2: rotation 2 dof, Z_rot 7 (case)" in format_plan(plan)
+    for t in (800.0, 2000.0, 6000.0):
+        assert inverse_numbers(ip[0], t) == (0.0, 0.0)
+        zr, zv = inverse_numbers(ip[1], t)
+        assert zr == pytest.approx(1.0 / float(internal.parker_zrot(t, *N2.parker)), rel=1e-12)
+        for k, sp in ((1, N2), (2, get_species("O2"))):
+            z = vib_collision_number(case.gas, mix.models[k], t, sp.theta_vib_k)
+            assert inverse_numbers(ip[k], t)[1] == pytest.approx(1.0 / z, rel=1e-9), (k, t)
+        assert inverse_numbers(ip[2], t)[0] == pytest.approx(1.0 / 7.0, rel=1e-15)
+    # at the plan's reference temperature, the plan's own numbers
+    t_ref = plan.reference_temperature_k
+    for k in (1, 2):
+        zr, zv = inverse_numbers(ip[k], t_ref)
+        assert zr == pytest.approx(1.0 / plan.species_rot_collision_number[k], rel=1e-12)
+        assert zv == pytest.approx(1.0 / plan.species_vib_collision_number[k], rel=1e-9)
+
+
 def test_specular_reflection_keeps_and_diffuse_reemission_resets_internal_energy():
     # Maxwell model (Bird 1994 ch. 5 and sec. 12.3, M): specular reflection keeps the
     # molecule's internal state; diffuse re-emission gives it the wall's equilibrium

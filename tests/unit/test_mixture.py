@@ -70,6 +70,11 @@ def test_mixtures_with_molecules():
     g = _case('species = ["He", "N2", "CO2"]\nmole_fractions = [0.2, 0.5, 0.3]\n'
               'rotation = {n2 = "parker"}').gas
     assert g.rotation == (None, "parker", 5.0)
+    assert [g.rotation_from_case(k) for k in range(3)] == [False, True, False]
+    plan = make_plan(_case('species = ["He", "N2", "H2"]\nmole_fractions = [0.2, 0.5, 0.3]\n'
+                           'rotation = {N2 = 4}'))
+    assert plan.species_rotation_source == ("", "case", "auto")
+    assert any("H2 relaxes its rotation" in w for w in plan.warnings())   # left at 5
     g = _case('species = ["N2", "O2"]\nmole_fractions = [0.79, 0.21]\nrotation = "parker"\n'
               'vibration = true\nvibration_number = 50').gas
     assert g.rotation == ("parker", "parker") and g.vibration and g.vibration_number == 50.0
@@ -102,6 +107,10 @@ def test_mixture_errors():
            "gas.vibration", "no vibrational data for CO2")
     _error('species = ["He", "N2"]\nmole_fractions = [0.5, 0.5]\nrotation = 0.5',
            "gas.rotation", "from 1 to 1e12")
+    _error('species = ["He", "N2"]\nmole_fractions = [0.5, 0.5]\nrotation = [5, 3]',
+           "gas.rotation", "a table by species")
+    _error('species = ["N2", "O2"]\nmole_fractions = [0.5, 0.5]\nrotation = {N2 = 3, n2 = 4}',
+           "gas.rotation.n2", "N2 is given twice")
     _error('species = ["He", "N2"]\nmole_fractions = [0.5, 0.5]\nvibration_number = 3',
            "gas.vibration_number", "only with vibration = true")
     _error('species = ["He", "Unobtainium"]\nmole_fractions = [0.5, 0.5]',

@@ -130,9 +130,12 @@ def test_tracer_inlet_example_separates_helium_between_continuum_and_graham(tmp_
     # mixture passes at its source composition in continuum flow and by Graham's law in
     # free-molecular flow, the He/N2 number-flow ratio (x_He / x_N2) sqrt(m_N2 / m_He)
     # (Graham 1846; kinetic theory of effusion, M); in transitional flow (delta ~ 1)
-    # the ratio lies between the two (S). The whole gas's flow is the species' sum, and
-    # nitrogen's rotation stays nearer the source temperature than its translation in
-    # the jet (frozen rotation in expansions, M).
+    # the ratio lies between the two (S). The whole gas's flow is the species' sum. One
+    # radius behind the opening nitrogen's rotation has cooled below the source's 300 K
+    # but lags its translation, which falls faster in the expansion (rotational
+    # non-equilibrium of free jets, common practice; Bird 1994 ch. 5, M): the first
+    # bound fails if the molecules do not exchange rotation, the second if they
+    # exchange it at once.
     example = Path(__file__).resolve().parents[2] / "examples" / "tracer-inlet" / "case.toml"
     execute(load_case(example), tmp_path, seed=4, quiet=True)     # about 15 s
     rep = load_report(tmp_path)
@@ -152,8 +155,9 @@ def test_tracer_inlet_example_separates_helium_between_continuum_and_graham(tmp_
     assert source + 3.0 * ratio_se < ratio < graham - 3.0 * ratio_se
     assert fp["throat"]["mass_flow_kg_s"] == pytest.approx(
         he["mass_flow_kg_s"] + n2["mass_flow_kg_s"], rel=1e-9)
-    probe = rep["probes"]["axis_4a N2"]
+    probe = rep["probes"]["axis_1a N2"]
     t_rot, t_tr = probe["temperature_rotational_k"], probe["temperature_k"]
-    se = np.hypot(probe["temperature_rotational_stderr_k"], probe["temperature_stderr_k"])
-    print(f"N2 at 4 radii: T_rot {t_rot:.1f} K, T_tr {t_tr:.1f} K (+- {se:.1f})")
-    assert t_rot > t_tr + 4.0 * se
+    se_rot = probe["temperature_rotational_stderr_k"]
+    se = np.hypot(se_rot, probe["temperature_stderr_k"])
+    print(f"N2 at 1 radius: T_rot {t_rot:.1f} +- {se_rot:.1f} K, T_tr {t_tr:.1f} K")
+    assert t_tr + 4.0 * se < t_rot < 300.0 - 3.0 * se_rot
