@@ -225,17 +225,26 @@ def _species(chk: Checker, gas: dict) -> GasSpec:
         return GasSpec(species, model)
     rotation = _collision_number(chk, gas.get("rotation", DEFAULT_ZROT), "gas.rotation",
                                  "parker", entry.parker is not None, species)
+    vibration, number = _vibration(chk, gas, [species])
+    return GasSpec(species, model, rotation, vibration, number, "rotation" in gas)
+
+
+def _vibration(chk: Checker, gas: dict, molecules: list) -> tuple[bool, float | str | None]:
+    """(vibration on, Z_vib) of ``molecules``: each must have vibrational data when on."""
+    from rarefy.gas.species import SPECIES
+
     vibration = chk.boolean(gas.get("vibration", False), "gas.vibration")
-    if vibration and entry.theta_vib_k is None:
-        chk.fail("gas.vibration", f"no vibrational data for {species}: rarefy models the "
-                                  "one mode of diatomic molecules (H2, N2, O2); allowed: false")
-    number = None
+    for s in molecules:
+        if vibration and SPECIES[s].theta_vib_k is None:
+            chk.fail("gas.vibration", f"no vibrational data for {s}: rarefy models the one "
+                                      "mode of diatomic molecules (H2, N2, O2); allowed: false")
     if "vibration_number" in gas and not vibration:
         chk.fail("gas.vibration_number", "allowed only with vibration = true")
-    if vibration:
-        number = _collision_number(chk, gas.get("vibration_number", "millikan-white"),
-                                   "gas.vibration_number", "millikan-white", True, species)
-    return GasSpec(species, model, rotation, vibration, number, "rotation" in gas)
+    if not vibration:
+        return False, None
+    return True, _collision_number(chk, gas.get("vibration_number", "millikan-white"),
+                                   "gas.vibration_number", "millikan-white", True,
+                                   ", ".join(molecules))
 
 
 def _mixture(chk: Checker, gas: dict, names: list, canon: dict) -> GasSpec:
@@ -274,18 +283,7 @@ def _mixture(chk: Checker, gas: dict, names: list, canon: dict) -> GasSpec:
         return GasSpec(species[0], model, mixture=tuple(species), mole_fractions=fractions)
     rotation, given = _mixture_rotation(chk, gas.get("rotation", DEFAULT_ZROT), species,
                                         "rotation" in gas)
-    vibration = chk.boolean(gas.get("vibration", False), "gas.vibration")
-    for s in molecules:
-        if vibration and SPECIES[s].theta_vib_k is None:
-            chk.fail("gas.vibration", f"no vibrational data for {s}: rarefy models the one "
-                                      "mode of diatomic molecules (H2, N2, O2); allowed: false")
-    number = None
-    if "vibration_number" in gas and not vibration:
-        chk.fail("gas.vibration_number", "allowed only with vibration = true")
-    if vibration:
-        number = _collision_number(chk, gas.get("vibration_number", "millikan-white"),
-                                   "gas.vibration_number", "millikan-white", True,
-                                   ", ".join(molecules))
+    vibration, number = _vibration(chk, gas, molecules)
     return GasSpec(species[0], model, rotation, vibration, number, "rotation" in gas, given,
                    mixture=tuple(species), mole_fractions=fractions)
 
