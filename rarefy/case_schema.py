@@ -312,7 +312,7 @@ def _mixture_rotation(chk: Checker, value: Any, species: list,
                       for s in species), tuple(s in table for s in species))
     if isinstance(value, bool) or not isinstance(value, (int, float, str)):
         chk.fail("gas.rotation", 'must be a number from 1 to 1e12, "parker", or a table by '
-                                 f'species, e.g. {{{molecules[0]} = "parker"}}; got {show(value)}')
+                                 f"species, e.g. {{{molecules[0]} = 5}}; got {show(value)}")
     if isinstance(value, str) and value.strip().lower() == "parker":
         lacking = [s for s in molecules if SPECIES[s].parker is None]
         if lacking:

@@ -12,7 +12,8 @@ from rarefy.gas import internal
 from rarefy.gas.species import MolecularModel, get_species
 from rarefy.kernels.config import (
     IP_M_OVER_K, IP_MW_A, IP_MW_B, IP_NU_P, IP_OMEGA, IP_ROT_DOF, IP_ROT_FACTOR, IP_ROT_MODE,
-    IP_ROT_P, IP_ROT_ZINV, IP_THETA, IP_TSTAR, IP_VIB_FACTOR, IP_VIB_MODE, IP_VIB_P, IP_VIB_TH, IP_VIB_ZINV, IP_ZINF, N_INTERNAL_PAR,
+    IP_ROT_P, IP_ROT_ZINV, IP_THETA, IP_TSTAR, IP_VIB_FACTOR, IP_VIB_MODE, IP_VIB_P, IP_VIB_TH,
+    IP_VIB_ZINV, IP_ZINF, N_INTERNAL_PAR,
 )
 from rarefy.plan import Plan
 

@@ -77,8 +77,9 @@ N_MOMENTS = 17
 # 0: vibration off), theta (K), Z_vib mode (0 constant, 1 Millikan-White), selection
 # probability (constant mode), Millikan-White A and B, nu / p = NU_P T^-omega (1/(Pa s)),
 # m / k (K s^2/m^2), omega, and the factor (1 + 2 / (5 - 2 omega)) that turns 1/Z_vib
-# into a selection probability; 1/Z_rot and 1/Z_vib (constant modes; a mixture's pairs
-# scale them by the pair's own factor). Stored internal energies are per unit mass
+# into a selection probability; 1/Z_rot and 1/Z_vib at the plan's reference temperature
+# (the constants of the constant modes; a mixture's pairs scale them by the pair's own
+# factor). Stored internal energies are per unit mass
 # (m^2/s^2), in the particle rows after vz: rotational, then vibrational. The kernels take
 # one row per species (float64[nspecies, N_INTERNAL_PAR]).
 (IP_ROT_DOF, IP_ROT_MODE, IP_ROT_P, IP_ZINF, IP_TSTAR, IP_ROT_FACTOR, IP_VIB_TH,

@@ -164,9 +164,10 @@ def move_one(i, t, x, y, vx, vy, vz, eint, ip, spc, sfac, segs, seg_tally, box, 
 
     Surface interactions draw from the particle's stream under ``rng_key``; ``eint`` are
     the internal energies and ``ip[k]`` the parameters of species k
-    (``rarefy.kernels.internal``). Mixtures: ``spc[i]`` is the particle's species k, ``sfac[k]`` = sqrt(m_ref / m_k)
-    scales the walls' sqrt(k T_w / m_ref), and species k tallies into rows
-    facet * nsp + k and plane * nsp + k (nsp = len(sfac); one species: row = facet)."""
+    (``rarefy.kernels.internal``). Mixtures: ``spc[i]`` is the particle's species k,
+    ``sfac[k]`` = sqrt(m_ref / m_k) scales the walls' sqrt(k T_w / m_ref), and species k
+    tallies into rows facet * nsp + k and plane * nsp + k (nsp = len(sfac); one species:
+    row = facet)."""
     s = stream(rng_key, i)
     nsp = sfac.shape[0]
     sp = int(spc[i]) if nsp > 1 else 0
